@@ -1,0 +1,128 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"strings"
+
+	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/process"
+)
+
+func init() {
+	register(command{name: "analyze", summary: "check hit files and estimate frequency and damping of every mode", run: runAnalyze})
+}
+
+func runAnalyze(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("analyze", "[--json] [--channel NAME] [--force-channel NAME] [--window-tau SECONDS] FILE...", e.stderr)
+	asJSON := fs.Bool("json", false, "print one JSON object per file, one per line")
+	channel := fs.String("channel", "", "response channel to analyse (default: the first response channel)")
+	force := fs.String("force-channel", "", "force (hammer) channel (default: a channel named like force/hammer)")
+	noForce := fs.Bool("no-force", false, "ignore any force channel")
+	tau := fs.Float64("window-tau", 0, "time constant in seconds of an exponential window applied by the recorder (corrected for)")
+	sampleRate := fs.Float64("sample-rate", 0, "sample rate in Hz for files that carry none")
+	config := fs.String("config", "", "TOML configuration file for thresholds and channel settings (optional)")
+	files, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(files) == 0 {
+		return usagef("no FILE given")
+	}
+	if *tau < 0 {
+		return usagef("--window-tau must be positive, got %g", *tau)
+	}
+	if *sampleRate < 0 {
+		return usagef("--sample-rate must be positive, got %g", *sampleRate)
+	}
+	opt := process.Defaults()
+	if *config != "" {
+		cfg, err := loadConfig(*config)
+		if err != nil {
+			return err
+		}
+		opt = cfg.processOptions(nil)
+	}
+	opt.Channel = *channel
+	opt.ForceChannel = *force
+	opt.NoForce = *noForce
+	opt.WindowTauS = *tau
+	if *sampleRate > 0 {
+		opt.Read.SampleRate = *sampleRate
+	}
+
+	failed := 0
+	for _, f := range files {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		res, err := process.File(ctx, f, opt)
+		if err != nil {
+			failed++
+			fmt.Fprintf(e.stderr, "ringlog analyze: %v\n", err)
+			if *asJSON {
+				writeJSONLine(e.stdout, map[string]string{"file": f, "error": err.Error()})
+			}
+			continue
+		}
+		if *asJSON {
+			writeJSONLine(e.stdout, res)
+		} else {
+			printResult(e.stdout, res)
+		}
+	}
+	if failed > 0 {
+		return errReported
+	}
+	return nil
+}
+
+func writeJSONLine(w io.Writer, v any) {
+	b, err := json.Marshal(v)
+	if err != nil {
+		b, _ = json.Marshal(map[string]string{"error": err.Error()})
+	}
+	w.Write(append(b, '\n'))
+}
+
+// printResult writes the human-readable view of one hit.
+func printResult(w io.Writer, r *pipeline.Result) {
+	fmt.Fprintf(w, "%s  %s\n", r.File, strings.ToUpper(string(r.Verdict)))
+	src := fmt.Sprintf("channel %s", r.Channel)
+	if r.ForceChannel != "" {
+		src += ", force " + r.ForceChannel
+	}
+	fmt.Fprintf(w, "  %s, %.0f Hz, %.3f s, noise rms %.3g", src, r.SampleRate, r.DurationS, r.NoiseRMS)
+	if r.WindowTauS > 0 {
+		fmt.Fprintf(w, ", exponential window tau %.4g s corrected", r.WindowTauS)
+	}
+	fmt.Fprintln(w)
+	if len(r.Modes) > 0 {
+		fmt.Fprintf(w, "  %-4s %12s %9s %21s %7s %7s  %s\n", "mode", "f_n [Hz]", "zeta [%]", "95 % interval [%]", "cycles", "spread", "cross-checks zeta [%]")
+		for i, m := range r.Modes {
+			var cc []string
+			for _, est := range m.Estimates[min(1, len(m.Estimates)):] {
+				cc = append(cc, fmt.Sprintf("%s %.3f", est.Method, 100*est.DampingRatio))
+			}
+			note := ""
+			if m.Dropped {
+				note = " (dropped)"
+			}
+			fmt.Fprintf(w, "  %-4d %12.3f %9.3f %9.3f .. %-8.3f %7.0f %6.0f%%  %s%s\n",
+				i+1, m.FrequencyHz, 100*m.DampingRatio, 100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1],
+				m.Cycles, 100*m.Spread, strings.Join(cc, ", "), note)
+		}
+	} else {
+		fmt.Fprintln(w, "  no mode found")
+	}
+	for _, rs := range r.Reasons {
+		where := ""
+		if rs.Mode != nil {
+			where = fmt.Sprintf("mode %d: ", *rs.Mode+1)
+		}
+		fmt.Fprintf(w, "  %-6s %s: %s%s\n", rs.Severity, rs.Code, where, rs.Message)
+	}
+	fmt.Fprintln(w)
+}

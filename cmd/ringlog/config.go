@@ -1,0 +1,257 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"regexp"
+	"runtime"
+	"strings"
+	"time"
+
+	"github.com/BurntSushi/toml"
+
+	"github.com/ringlog/ringlog/pipeline/check"
+	"github.com/ringlog/ringlog/pipeline/process"
+)
+
+// duration is a time.Duration written as "2s", "500ms", "1m" in TOML.
+type duration struct{ time.Duration }
+
+func (d *duration) UnmarshalText(b []byte) error {
+	v, err := time.ParseDuration(strings.TrimSpace(string(b)))
+	if err != nil {
+		return fmt.Errorf("not a duration (write e.g. \"2s\" or \"500ms\"): %w", err)
+	}
+	if v < 0 {
+		return fmt.Errorf("duration %s is negative", v)
+	}
+	d.Duration = v
+	return nil
+}
+
+func (d duration) MarshalText() ([]byte, error) { return []byte(d.String()), nil }
+
+// Config is the TOML configuration file. The keys database, [[folder]]
+// path, prototype and revision are a contract that scripts rely on.
+type Config struct {
+	Database     string   `toml:"database"`
+	LogFile      string   `toml:"log_file"`
+	LogLevel     string   `toml:"log_level"`
+	Settle       duration `toml:"settle"`
+	ScanInterval duration `toml:"scan_interval"`
+	Workers      int      `toml:"workers"`
+
+	Folders    []FolderConfig    `toml:"folder"`
+	Channels   []ChannelConfig   `toml:"channel"`
+	Prototypes []PrototypeConfig `toml:"prototype"`
+	Analysis   AnalysisConfig    `toml:"analysis"`
+	Thresholds check.Thresholds  `toml:"thresholds"`
+	Report     ReportConfig      `toml:"report"`
+
+	path string // file the config came from
+}
+
+// FolderConfig is one watched export folder.
+type FolderConfig struct {
+	Path      string   `toml:"path"`
+	Prototype string   `toml:"prototype"`
+	Revision  string   `toml:"revision"`
+	Bay       string   `toml:"bay"`
+	Pattern   string   `toml:"pattern"` // regular expression with named groups on the file name
+	Include   []string `toml:"include"`
+	Recursive bool     `toml:"recursive"`
+	Poll      bool     `toml:"poll"` // polling only, for network shares
+
+	re *regexp.Regexp
+}
+
+// ChannelConfig names a channel's role and calibration.
+type ChannelConfig struct {
+	Name        string  `toml:"name"`
+	Role        string  `toml:"role"`        // "force" or "response"
+	Sensitivity float64 `toml:"sensitivity"` // raw file units per engineering unit; 0 = 1
+	Unit        string  `toml:"unit"`
+	FullScale   float64 `toml:"full_scale"` // measuring range in engineering units; 0 = unknown
+}
+
+// PrototypeConfig lists the modes expected on a prototype.
+type PrototypeConfig struct {
+	Name  string       `toml:"name"`
+	Modes []ModeConfig `toml:"mode"`
+}
+
+// ModeConfig is one expected mode.
+type ModeConfig struct {
+	Label       string  `toml:"label"`
+	FrequencyHz float64 `toml:"frequency_hz"`
+	Tolerance   float64 `toml:"tolerance"` // relative, e.g. 0.1 for +/- 10 %
+}
+
+// AnalysisConfig are the analysis defaults.
+type AnalysisConfig struct {
+	Channel      string  `toml:"channel"`
+	ForceChannel string  `toml:"force_channel"`
+	WindowTauS   float64 `toml:"window_tau"`
+	SampleRate   float64 `toml:"sample_rate"`
+	WAVChannels  []string `toml:"wav_channels"` // names of WAV channels in file order
+	MaxModes     int     `toml:"max_modes"`
+	FMinHz       float64 `toml:"fmin_hz"`
+	FMaxHz       float64 `toml:"fmax_hz"`
+}
+
+// ReportConfig sets the daily report.
+type ReportConfig struct {
+	Time   string `toml:"time"`   // "HH:MM" local time; "" = no daily report
+	Folder string `toml:"folder"` // where reports are written
+}
+
+// loadConfig reads and validates a configuration file.
+func loadConfig(path string) (*Config, error) {
+	cfg := &Config{
+		Settle:       duration{2 * time.Second},
+		ScanInterval: duration{30 * time.Second},
+		Thresholds:   check.DefaultThresholds(),
+		path:         path,
+	}
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("config %s: %w", path, err)
+	}
+	md, err := toml.Decode(string(b), cfg)
+	if err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return nil, fmt.Errorf("config %s: line %d: %s", path, pe.Position.Line, pe.Message)
+		}
+		return nil, fmt.Errorf("config %s: %w", path, err)
+	}
+	if und := md.Undecoded(); len(und) > 0 {
+		var keys []string
+		for _, k := range und {
+			keys = append(keys, k.String())
+		}
+		return nil, fmt.Errorf("config %s: unknown key(s): %s", path, strings.Join(keys, ", "))
+	}
+	return cfg, cfg.validate()
+}
+
+func (c *Config) validate() error {
+	dir := filepath.Dir(c.path)
+	abs := func(p string) string {
+		if p == "" || filepath.IsAbs(p) {
+			return p
+		}
+		return filepath.Join(dir, p)
+	}
+	c.Database = abs(c.Database)
+	c.LogFile = abs(c.LogFile)
+	c.Report.Folder = abs(c.Report.Folder)
+	for i := range c.Folders {
+		f := &c.Folders[i]
+		if f.Path == "" {
+			return fmt.Errorf("config %s: folder %d has no path", c.path, i+1)
+		}
+		f.Path = abs(f.Path)
+		if f.Pattern != "" {
+			re, err := regexp.Compile(f.Pattern)
+			if err != nil {
+				return fmt.Errorf("config %s: folder %s: pattern: %w", c.path, f.Path, err)
+			}
+			f.re = re
+		}
+	}
+	for _, ch := range c.Channels {
+		if ch.Role != "" && ch.Role != "force" && ch.Role != "response" {
+			return fmt.Errorf("config %s: channel %q: role must be \"force\" or \"response\", got %q", c.path, ch.Name, ch.Role)
+		}
+		if ch.Sensitivity < 0 {
+			return fmt.Errorf("config %s: channel %q: sensitivity must be positive", c.path, ch.Name)
+		}
+	}
+	if c.Report.Time != "" {
+		if _, err := time.Parse("15:04", c.Report.Time); err != nil {
+			return fmt.Errorf("config %s: report time %q: write it as HH:MM", c.path, c.Report.Time)
+		}
+	}
+	if err := c.Thresholds.Validate(); err != nil {
+		return fmt.Errorf("config %s: thresholds: %w", c.path, err)
+	}
+	if c.Workers <= 0 {
+		c.Workers = runtime.NumCPU()
+	}
+	return nil
+}
+
+// processOptions returns the analysis options for files of folder f (nil
+// for files given on the command line).
+func (c *Config) processOptions(f *FolderConfig) process.Options {
+	opt := process.Defaults()
+	opt.Thresholds = c.Thresholds
+	opt.Channel = c.Analysis.Channel
+	opt.ForceChannel = c.Analysis.ForceChannel
+	opt.WindowTauS = c.Analysis.WindowTauS
+	opt.Read.SampleRate = c.Analysis.SampleRate
+	opt.Read.Names = c.Analysis.WAVChannels
+	opt.Modal.MaxModes = c.Analysis.MaxModes
+	opt.Modal.FMinHz = c.Analysis.FMinHz
+	opt.Modal.FMaxHz = c.Analysis.FMaxHz
+	for _, ch := range c.Channels {
+		if ch.Sensitivity > 0 {
+			if opt.Read.Sensitivity == nil {
+				opt.Read.Sensitivity = map[string]float64{}
+			}
+			opt.Read.Sensitivity[ch.Name] = ch.Sensitivity
+		}
+		if ch.FullScale > 0 {
+			if opt.FullScale == nil {
+				opt.FullScale = map[string]float64{}
+			}
+			opt.FullScale[ch.Name] = ch.FullScale
+		}
+		if ch.Unit != "" {
+			if opt.Units == nil {
+				opt.Units = map[string]string{}
+			}
+			opt.Units[ch.Name] = ch.Unit
+		}
+		if ch.Role == "force" && opt.ForceChannel == "" {
+			opt.ForceChannel = ch.Name
+		}
+		if ch.Role == "response" && opt.Channel == "" {
+			opt.Channel = ch.Name
+		}
+	}
+	return opt
+}
+
+// fileMeta returns the metadata the folder defaults and the file-name
+// pattern give for path.
+func (f *FolderConfig) fileMeta(path string) map[string]string {
+	m := map[string]string{}
+	if f == nil {
+		return m
+	}
+	set := func(k, v string) {
+		if v != "" {
+			m[k] = v
+		}
+	}
+	set("prototype", f.Prototype)
+	set("revision", f.Revision)
+	set("bay", f.Bay)
+	if f.re != nil {
+		name := filepath.Base(path)
+		if sm := f.re.FindStringSubmatch(name); sm != nil {
+			for i, g := range f.re.SubexpNames() {
+				if g != "" && sm[i] != "" {
+					m[g] = sm[i]
+				}
+			}
+		}
+	}
+	return m
+}
+
+func defaultThresholds() check.Thresholds { return check.DefaultThresholds() }

@@ -1,0 +1,179 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"strings"
+	"time"
+
+	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/pipeline"
+)
+
+func init() {
+	register(command{name: "history", summary: "list the recorded hits with their verdicts and modes", run: runHistory})
+}
+
+// filterFlags are the hit filters shared by history and reanalyze.
+type filterFlags struct {
+	prototype, revision, bay, mode, since, until, verdict *string
+}
+
+func addFilterFlags(fl interface {
+	String(name, value, usage string) *string
+}) *filterFlags {
+	return &filterFlags{
+		prototype: fl.String("prototype", "", "only this prototype"),
+		revision:  fl.String("revision", "", "only this revision"),
+		bay:       fl.String("bay", "", "only this test bay"),
+		mode:      fl.String("mode", "", "only hits with a mode of this label"),
+		since:     fl.String("since", "", "only hits at or after this date (YYYY-MM-DD or RFC 3339)"),
+		until:     fl.String("until", "", "only hits before this date (YYYY-MM-DD or RFC 3339)"),
+		verdict:   fl.String("verdict", "", "only these verdicts, comma separated (accepted,flagged,rejected)"),
+	}
+}
+
+func (f *filterFlags) filter() (db.Filter, error) {
+	out := db.Filter{Prototype: *f.prototype, Revision: *f.revision, Bay: *f.bay, ModeLabel: *f.mode}
+	var ok bool
+	if *f.since != "" {
+		if out.Since, ok = parseTime(*f.since); !ok {
+			return out, usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.since)
+		}
+	}
+	if *f.until != "" {
+		if out.Until, ok = parseTime(*f.until); !ok {
+			return out, usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.until)
+		}
+	}
+	if *f.verdict != "" {
+		for _, v := range strings.Split(*f.verdict, ",") {
+			switch vv := pipeline.Verdict(strings.TrimSpace(v)); vv {
+			case pipeline.Accepted, pipeline.Flagged, pipeline.Rejected:
+				out.Verdicts = append(out.Verdicts, vv)
+			default:
+				return out, usagef("--verdict %q: use accepted, flagged or rejected", v)
+			}
+		}
+	}
+	return out, nil
+}
+
+// openExisting opens a database that must already exist (queries never
+// create one by accident).
+func openExisting(ctx context.Context, path string) (*db.DB, error) {
+	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
+		return nil, fmt.Errorf("database %s does not exist (run 'ringlog ingest' or 'ringlog watch' first)", path)
+	}
+	return db.Open(ctx, path)
+}
+
+// hitJSON is one line of 'history --json'. The keys file, sha256,
+// verdict, prototype, revision and modes are a contract.
+type hitJSON struct {
+	File      string            `json:"file"`
+	SHA256    string            `json:"sha256"`
+	Verdict   pipeline.Verdict  `json:"verdict"`
+	Prototype string            `json:"prototype"`
+	Revision  string            `json:"revision"`
+	Bay       string            `json:"bay"`
+	Point     string            `json:"point,omitempty"`
+	Direction string            `json:"direction,omitempty"`
+	HitTime   time.Time         `json:"hit_time"`
+	Ingested  time.Time         `json:"ingested_at"`
+	Reasons   []pipeline.Reason `json:"reasons"`
+	Modes     []pipeline.Mode   `json:"modes"`
+	Channel   string            `json:"channel"`
+	Analysis  string            `json:"analysis_version"`
+	Meta      map[string]string `json:"meta,omitempty"`
+}
+
+func runHistory(ctx context.Context, e *env, args []string) error {
+	fl := newFlags("history", "--db PATH [--prototype P] [--revision R] [--mode LABEL] [--since DATE] [--json]", e.stderr)
+	dbPath := fl.String("db", "", "history database")
+	cfgPath := fl.String("config", "", "TOML configuration naming the database")
+	asJSON := fl.Bool("json", false, "print one JSON object per hit, one per line")
+	ff := addFilterFlags(fl)
+	rest, err := parseInterleaved(fl, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	f, err := ff.filter()
+	if err != nil {
+		return err
+	}
+	path, err := dbFromFlags(*dbPath, *cfgPath)
+	if err != nil {
+		return err
+	}
+	store, err := openExisting(ctx, path)
+	if err != nil {
+		return err
+	}
+	defer store.Close()
+	hits, err := store.Hits(ctx, f)
+	if err != nil {
+		return err
+	}
+	if len(hits) == 0 {
+		fmt.Fprintln(e.stderr, "no hits match these filters")
+		return nil
+	}
+	for _, h := range hits {
+		if *asJSON {
+			writeJSONLine(e.stdout, toHitJSON(h))
+			continue
+		}
+		r := h.Result
+		fmt.Fprintf(e.stdout, "%s  %-8s %s/%s %s  %s\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
+			orDash(h.Meta.Prototype), orDash(h.Meta.Revision), orDash(h.Meta.Bay), h.Path)
+		for i, m := range r.Modes {
+			label := m.Label
+			if label == "" {
+				label = fmt.Sprintf("#%d", i+1)
+			}
+			drop := ""
+			if m.Dropped {
+				drop = "  (dropped)"
+			}
+			fmt.Fprintf(e.stdout, "    %-10s %10.3f Hz  zeta %7.3f %%  [%.3f, %.3f]%s\n", label, m.FrequencyHz, 100*m.DampingRatio,
+				100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1], drop)
+		}
+		for _, rs := range r.Reasons {
+			fmt.Fprintf(e.stdout, "    %s %s: %s\n", rs.Severity, rs.Code, rs.Message)
+		}
+	}
+	if !*asJSON {
+		fmt.Fprintf(e.stdout, "%d hit(s)\n", len(hits))
+	}
+	return nil
+}
+
+func toHitJSON(h db.Hit) hitJSON {
+	r := h.Result
+	return hitJSON{
+		File: h.Path, SHA256: h.SHA256, Verdict: r.Verdict, Prototype: h.Meta.Prototype, Revision: h.Meta.Revision,
+		Bay: h.Meta.Bay, Point: h.Meta.Point, Direction: h.Meta.Direction, HitTime: h.Meta.HitTime, Ingested: h.IngestedAt,
+		Reasons: nonNil(r.Reasons), Modes: nonNil(r.Modes), Channel: r.Channel, Analysis: r.AnalysisVersion, Meta: h.Meta.Extra,
+	}
+}
+
+func nonNil[T any](s []T) []T {
+	if s == nil {
+		return []T{}
+	}
+	return s
+}
+
+func orDash(s string) string {
+	if s == "" {
+		return "-"
+	}
+	return s
+}

@@ -1,0 +1,79 @@
+// Command ringlog checks impact-hammer test files, estimates frequency and
+// damping of every mode with an uncertainty, and keeps a history of them.
+//
+// Each subcommand lives in a file of its own; errors map to exit codes in
+// errors.go.
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"sort"
+	"syscall"
+)
+
+// command is one subcommand.
+type command struct {
+	name    string
+	summary string
+	run     func(ctx context.Context, env *env, args []string) error
+}
+
+// env is what a subcommand may touch: its streams. Tests run commands
+// in-process with buffers.
+type env struct {
+	stdout io.Writer
+	stderr io.Writer
+	stdin  io.Reader
+}
+
+var commands = map[string]command{}
+
+func register(c command) { commands[c.name] = c }
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	e := &env{stdout: os.Stdout, stderr: os.Stderr, stdin: os.Stdin}
+	os.Exit(run(ctx, e, os.Args[1:]))
+}
+
+// run executes one command line and returns the process exit status.
+func run(ctx context.Context, e *env, args []string) int {
+	if len(args) == 0 || args[0] == "-h" || args[0] == "--help" || args[0] == "help" {
+		usage(e.stderr)
+		if len(args) == 0 {
+			return exitUsage
+		}
+		return exitOK
+	}
+	if args[0] == "version" || args[0] == "--version" {
+		fmt.Fprintln(e.stdout, versionString())
+		return exitOK
+	}
+	c, ok := commands[args[0]]
+	if !ok {
+		fmt.Fprintf(e.stderr, "ringlog: unknown command %q\n\n", args[0])
+		usage(e.stderr)
+		return exitUsage
+	}
+	err := c.run(ctx, e, args[1:])
+	return report(e.stderr, c.name, err)
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintln(w, "ringlog: impact-test damping, checked, estimated and kept in a history")
+	fmt.Fprintln(w, "\nusage: ringlog COMMAND [options] [args]\n\ncommands:")
+	names := make([]string, 0, len(commands))
+	for n := range commands {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+	}
+	fmt.Fprintln(w, "\nRun 'ringlog COMMAND -h' for a command's options.")
+}

@@ -1,0 +1,97 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"os"
+
+	"github.com/ringlog/ringlog/pipeline/process"
+)
+
+func init() {
+	register(command{name: "reanalyze", summary: "re-run stored hits through the current analysis, keeping the old results as provenance", run: runReanalyze})
+}
+
+func runReanalyze(ctx context.Context, e *env, args []string) error {
+	fl := newFlags("reanalyze", "--db PATH [--config FILE] [filters]", e.stderr)
+	dbPath := fl.String("db", "", "history database")
+	cfgPath := fl.String("config", "", "TOML configuration for the analysis settings (default: built-in defaults)")
+	ff := addFilterFlags(fl)
+	rest, err := parseInterleaved(fl, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	f, err := ff.filter()
+	if err != nil {
+		return err
+	}
+	cfg := defaultConfig()
+	if *cfgPath != "" {
+		if cfg, err = loadConfig(*cfgPath); err != nil {
+			return err
+		}
+	}
+	path := *dbPath
+	if path == "" {
+		path = cfg.Database
+	}
+	if path == "" {
+		return usagef("--db PATH is required")
+	}
+	store, err := openExisting(ctx, path)
+	if err != nil {
+		return err
+	}
+	defer store.Close()
+	files, err := store.StoredFiles(ctx, f)
+	if err != nil {
+		return err
+	}
+	if len(files) == 0 {
+		fmt.Fprintln(e.stderr, "no hits match these filters")
+		return nil
+	}
+	opt := cfg.processOptions(nil)
+	settings := settingsOf(cfg, nil)
+	done, missing, failed := 0, 0, 0
+	for _, sf := range files {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		// The bytes may be found under the first path or any duplicate
+		// path; the content hash must still match.
+		var data []byte
+		var used string
+		for _, p := range append([]string{sf.Path}, sf.Others...) {
+			b, err := os.ReadFile(p)
+			if err == nil && sha256Hex(b) == sf.SHA256 {
+				data, used = b, p
+				break
+			}
+		}
+		if data == nil {
+			missing++
+			fmt.Fprintf(e.stderr, "hit %d: %s: file gone or changed since it was recorded; old result kept\n", sf.HitID, sf.Path)
+			continue
+		}
+		res, err := process.Data(ctx, used, data, opt)
+		if err != nil {
+			failed++
+			fmt.Fprintf(e.stderr, "hit %d: %v\n", sf.HitID, err)
+			continue
+		}
+		if err := store.Supersede(ctx, sf.HitID, res, settings); err != nil {
+			return err
+		}
+		done++
+		fmt.Fprintf(e.stdout, "%s: %s, %d mode(s)\n", used, res.Verdict, len(res.Modes))
+	}
+	fmt.Fprintf(e.stdout, "%d hit(s) reanalysed, %d file(s) missing or changed, %d failed; old results kept as superseded\n", done, missing, failed)
+	if failed > 0 || missing > 0 {
+		return errReported
+	}
+	return nil
+}

@@ -1,0 +1,111 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"time"
+
+	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/pipeline"
+)
+
+func init() {
+	register(command{name: "status", summary: "show the queue, counts per state, the last hit and the last error of a history", run: runStatus})
+}
+
+func runStatus(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("status", "--db PATH | --config FILE [--json]", e.stderr)
+	dbPath := fs.String("db", "", "history database")
+	cfgPath := fs.String("config", "", "TOML configuration naming the database")
+	asJSON := fs.Bool("json", false, "print one JSON object")
+	rest, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	path, err := dbFromFlags(*dbPath, *cfgPath)
+	if err != nil {
+		return err
+	}
+	store, err := openExisting(ctx, path)
+	if err != nil {
+		return err
+	}
+	defer store.Close()
+	st, err := store.Status(ctx)
+	if err != nil {
+		return err
+	}
+	held, pid, since, herr := db.HolderInfo(path)
+	if *asJSON {
+		out := map[string]any{
+			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "verdicts": st.Verdicts,
+			"daemon_running": held, "schema": st.Schema,
+		}
+		if held {
+			out["daemon_pid"] = pid
+			if !since.IsZero() {
+				out["daemon_since"] = since
+			}
+		}
+		if st.LastHit != nil {
+			out["last_hit"] = map[string]any{"file": st.LastHit.Path, "hit_time": st.LastHit.HitTime, "ingested_at": st.LastHit.IngestedAt, "verdict": st.LastHit.Verdict}
+		}
+		if st.LastError != nil {
+			out["last_error"] = map[string]any{"file": st.LastError.Path, "error": st.LastError.Message, "time": st.LastError.Time, "attempts": st.LastError.Attempts, "final": st.LastError.Final}
+		}
+		writeJSONLine(e.stdout, out)
+		return nil
+	}
+	fmt.Fprintf(e.stdout, "database  %s\n", path)
+	switch {
+	case herr != nil:
+		fmt.Fprintf(e.stdout, "daemon    unknown (%v)\n", herr)
+	case held:
+		s := fmt.Sprintf("running (pid %d", pid)
+		if !since.IsZero() {
+			s += ", since " + since.Local().Format(time.DateTime)
+		}
+		fmt.Fprintf(e.stdout, "daemon    %s)\n", s)
+	default:
+		fmt.Fprintf(e.stdout, "daemon    not running\n")
+	}
+	printStatus(e.stdout, st)
+	return nil
+}
+
+// printStatus writes the counts of a Status.
+func printStatus(w io.Writer, st db.Status) {
+	fmt.Fprintf(w, "queue     %d file(s) waiting\n", st.Pending)
+	fmt.Fprintf(w, "files     %d analysed, %d duplicate, %d failed, %d pending\n",
+		st.Files[db.StateAnalysed], st.Files[db.StateDuplicate], st.Files[db.StateFailed], st.Files[db.StatePending])
+	fmt.Fprintf(w, "hits      %d: %d accepted, %d flagged, %d rejected\n", st.Hits,
+		st.Verdicts[pipeline.Accepted], st.Verdicts[pipeline.Flagged], st.Verdicts[pipeline.Rejected])
+	if lh := st.LastHit; lh != nil {
+		fmt.Fprintf(w, "last hit  %s  %s (recorded %s)\n", lh.Path, lh.Verdict, lh.IngestedAt.Local().Format(time.DateTime))
+	}
+	if le := st.LastError; le != nil {
+		fmt.Fprintf(w, "last error %s: %s (%s, %d attempt(s))\n", le.Path, le.Message, le.Time.Local().Format(time.DateTime), le.Attempts)
+	}
+}
+
+// dbFromFlags returns the database path given by --db or by --config.
+func dbFromFlags(dbPath, cfgPath string) (string, error) {
+	if dbPath != "" {
+		return dbPath, nil
+	}
+	if cfgPath != "" {
+		cfg, err := loadConfig(cfgPath)
+		if err != nil {
+			return "", err
+		}
+		if cfg.Database == "" {
+			return "", fmt.Errorf("config %s: database is not set", cfgPath)
+		}
+		return cfg.Database, nil
+	}
+	return "", usagef("--db PATH or --config FILE is required")
+}

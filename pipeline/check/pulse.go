@@ -1,0 +1,99 @@
+package check
+
+import (
+	"math"
+
+	"github.com/ringlog/ringlog/pipeline"
+)
+
+// minPulseNoiseRatio: a force channel whose largest excursion is below
+// this multiple of its noise standard deviation holds no usable pulse
+// (our choice, 26 dB); the force rules then stay silent.
+const minPulseNoiseRatio = 20
+
+// riseNoiseSD: a second pulse must also rise above this many noise
+// standard deviations of the force channel, so that noise on a weak force
+// signal is not taken for a bounce (our choice).
+const riseNoiseSD = 5
+
+// forcePulse is the force channel prepared for the force rules.
+type forcePulse struct {
+	g          []float64 // baseline removed, main pulse positive; non-finite samples set to 0
+	fs         float64   // sample rate
+	peak       int       // index of the main pulse's peak
+	height     float64   // main pulse's peak above the baseline
+	start, end int       // main pulse: first and last sample above the return level
+	sd         float64   // robust noise standard deviation of the force
+	unit       string
+}
+
+// findPulse locates the main force pulse, ok false when the channel has
+// none that stands out of its noise.
+func findPulse(ch *pipeline.Channel, th Thresholds) (forcePulse, bool) {
+	if !usable(ch) || len(ch.Samples) < 3 {
+		return forcePulse{}, false
+	}
+	base := median(ch.Samples)
+	g := make([]float64, len(ch.Samples))
+	hi, lo := 0.0, 0.0
+	for i, v := range ch.Samples {
+		if finite(v) {
+			g[i] = v - base
+		}
+		hi = math.Max(hi, g[i])
+		lo = math.Min(lo, g[i])
+	}
+	if -lo > hi { // hammer wired with negative polarity
+		for i := range g {
+			g[i] = -g[i]
+		}
+	}
+	p := 0
+	for i, v := range g {
+		if v > g[p] {
+			p = i
+		}
+	}
+	fp := forcePulse{g: g, fs: ch.SampleRate, peak: p, height: g[p], sd: robustSD(g, 0), unit: ch.Unit}
+	if !(fp.height > 0) || fp.height < minPulseNoiseRatio*fp.sd {
+		return forcePulse{}, false
+	}
+	ret := th.StrikeReturnFraction * fp.height
+	fp.start, fp.end = p, p
+	for fp.start > 0 && g[fp.start-1] > ret {
+		fp.start--
+	}
+	for fp.end+1 < len(g) && g[fp.end+1] > ret {
+		fp.end++
+	}
+	return fp, true
+}
+
+// pulse is one excursion of the force above the rise level.
+type pulse struct {
+	peak   int
+	height float64
+}
+
+// pulses splits the force into pulses: a pulse starts when the force
+// rises above the rise level and ends when it falls below the return
+// level.
+func (fp forcePulse) pulses(th Thresholds) []pulse {
+	rise := math.Max(th.StrikeRiseFraction*fp.height, riseNoiseSD*fp.sd)
+	ret := th.StrikeReturnFraction * fp.height
+	var out []pulse
+	in := false
+	for i, v := range fp.g {
+		switch {
+		case !in && v > rise:
+			in = true
+			out = append(out, pulse{peak: i, height: v})
+		case in && v < ret:
+			in = false
+		}
+		if in && v > out[len(out)-1].height {
+			out[len(out)-1] = pulse{peak: i, height: v}
+		}
+	}
+	return out
+}

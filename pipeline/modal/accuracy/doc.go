@@ -1,0 +1,12 @@
+// Package accuracy measures how well modal.Analyze estimates the damping
+// ratio, by Monte Carlo on synthetic hits, against fixed targets: relative
+// bias under 1 %, standard deviation within 1.25 times the Cramer-Rao
+// bound, 95 % intervals that hold the true value in 90-98 % of the trials,
+// and two modes a factor 3 apart each within 3 %.
+//
+// The hits come from pipeline/synth, a closed-form generator independent
+// of the estimators (textbook damped sines plus white Gaussian noise), so
+// the table checks the estimators against the physics of a damped
+// oscillator and the statistical limit (modal.CRBZeta), not against
+// themselves.
+package accuracy

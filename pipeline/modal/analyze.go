@@ -1,0 +1,534 @@
+package modal
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/ringlog/ringlog/pipeline"
+)
+
+// Analysis limits.
+const (
+	minRecordSamples = 64      // shortest record Analyze accepts
+	minDecaySamples  = 32      // shortest free decay worth a fit
+	spectrumMaxLen   = 1 << 15 // samples of the decay that locate the bands
+	pencilLen        = 240     // band-signal samples the matrix pencil sees
+	maxZeta          = 0.25    // heavier "modes" are not structural modes of a hit
+	detectSigmas     = 3.0     // decay rate and amplitude must be this many standard errors from zero
+)
+
+// Estimator names, as in pipeline.Estimate.Method.
+const (
+	MethodNLS       = "nls"
+	MethodSubspace  = "subspace"
+	MethodEnvelope  = "envelope"
+	MethodLogDec    = "logdec"
+	MethodHalfPower = "halfpower"
+)
+
+// Analyze finds the free decay in the response x (sampled at fs hertz)
+// and estimates frequency and damping of every mode that decays in it.
+// force is the hammer channel, same length and rate, or nil.
+//
+// Steps:
+//
+//  1. trigger: the force rising above 5 % of its peak, else the response
+//     rising out of the pre-trigger noise (first swing above half the peak,
+//     back to where the response leaves the noise); onset of the free
+//     decay: the end of the force pulse, else the first response peak after
+//     the trigger; a second force pulse (double hit) ends the decay used;
+//  2. noise: robust (median absolute deviation) standard deviation of the
+//     pre-trigger samples and of the record tail, the smaller of the two;
+//  3. bands: peaks of the zero-padded spectrum of the decay (no window on
+//     its start) locate the modes; close modes share a band;
+//  4. per band: band signal (shift, FIR low-pass, decimate; see band.go)
+//     and matrix pencil (Subspace) for the poles;
+//  5. all poles together: nonlinear least squares (FitDecay) on the decay
+//     at the full rate, where the noise is white, giving the primary
+//     estimate and its covariance; a mode is reported when its decay rate
+//     and amplitude are both at least 3 standard errors above zero;
+//  6. cross-checks on band-isolated modes: Hilbert envelope, logarithmic
+//     decrement; half-power bandwidth on the FRF (force channel) or on the
+//     response spectrum.
+//
+// With opt.WindowTauS > 0 every estimate is corrected for the exponential
+// window (the pole moves from -sigma to -(sigma + 1/tau)); the
+// least-squares fit runs on the record with the window divided out, where
+// the noise is white again.
+//
+// Analyze returns an error only for unusable input (too short, all zero,
+// NaN or infinite samples, mismatched force channel). A record with no
+// decaying mode gives a Decay with no modes and a nil error.
+func Analyze(x []float64, fs float64, force []float64, opt Options) (*Decay, error) {
+	if err := checkRecord(x, fs, force); err != nil {
+		return nil, err
+	}
+	opt = withDefaults(opt, fs)
+	h := locateHit(x, fs, force)
+	d := &Decay{Onset: h.onset, Trigger: h.trigger, NoiseRMS: h.noise, Peak: h.peak}
+	if h.stop-h.onset < minDecaySamples {
+		return d, nil
+	}
+	a := &analysis{x: x, fs: fs, force: force, opt: opt, hit: h}
+	a.x0 = make([]float64, h.stop-h.onset)
+	for i := range a.x0 {
+		a.x0[i] = x[h.onset+i] - h.offset
+	}
+	a.noise = math.Max(h.noise, 1e-12*h.peak)
+	a.run()
+	d.Modes, d.Diag = a.modes, a.diags
+	return d, nil
+}
+
+// checkRecord rejects input no estimator can use.
+func checkRecord(x []float64, fs float64, force []float64) error {
+	if !(fs > 0) || math.IsInf(fs, 0) {
+		return fmt.Errorf("modal: sample rate %g Hz is not a positive number", fs)
+	}
+	if len(x) < minRecordSamples {
+		return fmt.Errorf("modal: response has %d samples, need at least %d", len(x), minRecordSamples)
+	}
+	if force != nil && len(force) != len(x) {
+		return fmt.Errorf("modal: force channel has %d samples and the response %d: need equal lengths", len(force), len(x))
+	}
+	nonzero := false
+	for i, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("modal: response sample %d is %g", i, v)
+		}
+		if v != x[0] {
+			nonzero = true
+		}
+	}
+	if !nonzero {
+		return fmt.Errorf("modal: response is constant (%g) over all %d samples", x[0], len(x))
+	}
+	for i, v := range force {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("modal: force sample %d is %g", i, v)
+		}
+	}
+	return nil
+}
+
+func withDefaults(o Options, fs float64) Options {
+	if o.MaxModes <= 0 {
+		o.MaxModes = 8
+	}
+	if o.FMinHz <= 0 {
+		o.FMinHz = 0.5
+	}
+	if o.FMaxHz <= 0 || o.FMaxHz > 0.45*fs {
+		o.FMaxHz = 0.45 * fs
+	}
+	if o.WindowTauS < 0 || math.IsInf(o.WindowTauS, 0) || math.IsNaN(o.WindowTauS) {
+		o.WindowTauS = 0
+	}
+	return o
+}
+
+// hit is where the impact and the free decay are in the record.
+type hit struct {
+	trigger, onset, stop int // stop: end (exclusive) of the free decay
+	offset               float64
+	noise, peak          float64
+	forceBase            float64
+	hasForce             bool
+}
+
+// robustSD returns the median and 1.4826 times the median absolute
+// deviation of v (the standard deviation for Gaussian samples), on at most
+// 8192 evenly spaced samples.
+func robustSD(v []float64) (med, sd float64) {
+	if len(v) == 0 {
+		return 0, 0
+	}
+	step := max(1, len(v)/8192)
+	s := make([]float64, 0, len(v)/step+1)
+	for i := 0; i < len(v); i += step {
+		s = append(s, v[i])
+	}
+	slices.Sort(s)
+	med = s[len(s)/2]
+	for i := range s {
+		s[i] = math.Abs(s[i] - med)
+	}
+	slices.Sort(s)
+	return med, 1.4826 * s[len(s)/2]
+}
+
+// locateHit finds trigger, onset, end of the free decay, offset, noise
+// and peak (see Analyze).
+func locateHit(x []float64, fs float64, force []float64) hit {
+	n := len(x)
+	var h hit
+	h.stop = n
+	k0 := max(16, n/20)
+	off0, _ := robustSD(x[:k0])
+	peak, ipk := 0.0, 0
+	for i, v := range x {
+		if a := math.Abs(v - off0); a > peak {
+			peak, ipk = a, i
+		}
+	}
+	// force channel
+	forceTrig, forceEnd := -1, -1
+	if force != nil {
+		fb, _ := robustSD(force[:k0])
+		fp, ifp := 0.0, 0
+		for i, v := range force {
+			if a := math.Abs(v - fb); a > fp {
+				fp, ifp = a, i
+			}
+		}
+		if fp > 0 {
+			thr := 0.05 * fp
+			i := 0
+			for i < n && math.Abs(force[i]-fb) <= thr {
+				i++
+			}
+			for i > 0 && math.Abs(force[i-1]-fb) > 0.01*fp {
+				i--
+			}
+			forceTrig = i
+			_, fsd := robustSD(force[:max(forceTrig-2, 0)])
+			if forceTrig-2 < 16 {
+				fsd = 0
+			}
+			endThr := math.Max(0.01*fp, 4*fsd)
+			j := ifp
+			for j < n && math.Abs(force[j]-fb) >= endThr {
+				j++
+			}
+			forceEnd = j
+			h.forceBase = fb
+			h.hasForce = true
+			// a second pulse ends the free decay
+			width := max(forceEnd-forceTrig, 1)
+			for k := forceEnd + width; k < n; k++ {
+				if math.Abs(force[k]-fb) > 0.1*fp {
+					for k > forceEnd && math.Abs(force[k-1]-fb) > endThr {
+						k--
+					}
+					h.stop = k
+					break
+				}
+			}
+		}
+	}
+	// noise: pre-trigger and tail
+	c := 0
+	if forceTrig >= 0 {
+		c = forceTrig
+	} else {
+		// the first swing above half the peak is in the decay: at a peak
+		// SNR of 20 dB noise reaches it (5 sd) once in 3 million samples
+		for c < n && math.Abs(x[c]-off0) < 0.5*peak {
+			c++
+		}
+	}
+	guard := max(2, c/50)
+	pre := x[:max(0, c-guard)]
+	nt := max(32, n/10)
+	var tail []float64
+	if n-nt > ipk {
+		tail = x[n-nt:]
+	}
+	offPre, sdPre := robustSD(pre)
+	offTail, sdTail := robustSD(tail)
+	h.offset = off0
+	switch {
+	case len(pre) >= 256 || (len(pre) >= 32 && tail == nil):
+		h.noise, h.offset = sdPre, offPre
+	case len(pre) >= 32:
+		h.noise, h.offset = math.Min(sdPre, sdTail), offPre
+	case tail != nil:
+		h.noise, h.offset = sdTail, offTail
+	default:
+		h.noise = 0
+	}
+	if forceTrig >= 0 {
+		h.trigger = forceTrig
+		h.onset = min(forceEnd, n)
+	} else {
+		npre := float64(max(len(pre), 100))
+		thr := math.Max(h.noise*(math.Sqrt(2*math.Log(npre))+2), 0.5*peak)
+		ct := 0
+		for ct < n && math.Abs(x[ct]-h.offset) < thr {
+			ct++
+		}
+		ct = min(ct, ipk)
+		// trigger: back from there to where the response leaves the noise
+		tr := ct
+		for tr > 0 && math.Abs(x[tr-1]-h.offset) > 3*h.noise {
+			tr--
+		}
+		h.trigger = tr
+		// onset: the first response peak after the trigger
+		i := ct
+		for i+1 < n && math.Abs(x[i+1]-h.offset) >= math.Abs(x[i]-h.offset) {
+			i++
+		}
+		h.onset = i
+	}
+	h.peak = 0
+	for _, v := range x[h.trigger:] {
+		h.peak = math.Max(h.peak, math.Abs(v-h.offset))
+	}
+	if h.stop < h.onset {
+		h.stop = h.onset
+	}
+	return h
+}
+
+// analysis carries the state of one Analyze call.
+type analysis struct {
+	x, force []float64
+	fs       float64
+	opt      Options
+	hit      hit
+	x0       []float64 // free decay, offset removed (as recorded: windowed)
+	noise    float64   // full-rate noise sd (floored)
+	spanN    int       // samples of x0 until the decay meets the noise
+
+	modes []pipeline.Mode
+	diags []ModeDiag
+}
+
+// candidate is a pole found by the pencil in a band.
+type candidate struct {
+	c    Component // at the full rate, t = 0 at the onset, as recorded
+	band band
+}
+
+func (a *analysis) run() {
+	a.spanN = decaySpan(a.x0, a.noise)
+	ns := min(a.spanN, spectrumMaxLen)
+	truncated := a.spanN >= len(a.x0)-len(a.x0)/50 || ns < a.spanN
+	p, binHz := decaySpectrum(a.x0[:ns], a.fs, truncated)
+	peaks := spectralPeaks(p, binHz, a.opt.FMinHz, a.opt.FMaxHz)
+	bands := planBands(peaks, a.fs/float64(ns), a.opt.FMinHz, a.opt.FMaxHz, 2*a.opt.MaxModes+4)
+	var cands []candidate
+	for _, b := range bands {
+		bs := makeBandSignal(a.x0, a.fs, b, pencilLen)
+		if len(bs.y) < pencilMinLen {
+			continue
+		}
+		comps, _, err := Subspace(bs.y, 1/bs.dt, a.noise*bs.noise)
+		if err != nil {
+			continue
+		}
+		for _, c := range comps {
+			t := bs.toTrue(c)
+			fd := t.Omega / (2 * math.Pi)
+			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz {
+				continue
+			}
+			cands = append(cands, candidate{c: t, band: b})
+		}
+	}
+	if len(cands) == 0 {
+		return
+	}
+	a.fitAndReport(cands)
+}
+
+// decaySpan returns the number of samples of x0 until its mean square,
+// over blocks, last stands above the noise (plus a fifth, at most len(x0)).
+func decaySpan(x0 []float64, noise float64) int {
+	n := len(x0)
+	b := max(32, n/4096)
+	v := noise * noise
+	thr := v * (1 + 5*math.Sqrt(2/float64(b)))
+	last := 0
+	for s := 0; s < n; s += b {
+		e := min(s+b, n)
+		var ms float64
+		for _, u := range x0[s:e] {
+			ms += u * u
+		}
+		ms /= float64(e - s)
+		if ms > thr {
+			last = e
+		}
+	}
+	if last == 0 {
+		last = min(n, 4*b)
+	}
+	return min(n, last+last/5+b)
+}
+
+// tau returns the exponential-window time constant, 0 for none.
+func (a *analysis) tau() float64 { return a.opt.WindowTauS }
+
+// fitAndReport refines all candidate poles together and fills the modes.
+func (a *analysis) fitAndReport(cands []candidate) {
+	tau := a.tau()
+	// Start values in the unwindowed record: sigma_true = sigma - 1/tau and
+	// amplitudes back to their unwindowed size at the onset.
+	t0 := float64(a.hit.onset) / a.fs
+	start := make([]Component, len(cands))
+	for i, cd := range cands {
+		c := cd.c
+		if tau > 0 {
+			c.Sigma -= 1 / tau
+			c.Amp *= math.Exp(t0 / tau)
+		}
+		start[i] = c
+	}
+	// span of the fit: until every decaying component is 26 dB under the
+	// noise (less than 0.2 % of the information on the decay rate is left
+	// beyond), or the whole decay when one does not decay
+	noise := a.noise
+	if tau > 0 {
+		noise *= math.Exp(t0 / tau)
+	}
+	nFit := 0
+	for _, c := range start {
+		if !(c.Sigma > 0) {
+			nFit = len(a.x0)
+			break
+		}
+		if c.Amp > 0.05*noise {
+			t := math.Log(c.Amp/(0.05*noise)) / c.Sigma
+			nFit = max(nFit, int(math.Min(t*a.fs, float64(len(a.x0)))))
+		}
+	}
+	nFit = min(len(a.x0), max(nFit, a.spanN, 64+8*len(start)))
+	y := a.x0[:nFit]
+	if tau > 0 {
+		y = make([]float64, nFit)
+		for i := range y {
+			y[i] = a.x0[i] * math.Exp((float64(a.hit.onset+i))/(a.fs*tau))
+		}
+	}
+	var fit *Fit
+	for len(start) > 0 {
+		var err error
+		fit, err = FitDecay(y, a.fs, start)
+		if err == nil {
+			break
+		}
+		if !errors.Is(err, ErrFitFailed) {
+			return
+		}
+		// drop the weakest component and try again
+		iw := 0
+		for i, c := range start {
+			if c.Amp < start[iw].Amp {
+				iw = i
+			}
+		}
+		start = slices.Delete(start, iw, iw+1)
+		cands = slices.Delete(cands, iw, iw+1)
+	}
+	if fit == nil {
+		return
+	}
+	a.report(fit, cands, y)
+}
+
+// report turns the fitted components into modes with their cross-checks.
+func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
+	type found struct {
+		k            int
+		fn, zeta     float64
+		sdFn, sdZeta float64
+		energy       float64
+	}
+	var fs []found
+	q := fit.Quantile975()
+	for k, c := range fit.Components {
+		fn, zeta, sdFn, sdZeta := fit.ModalSD(k)
+		if !(c.Sigma > detectSigmas*fit.SigmaSD(k)) || !(c.Amp > detectSigmas*fit.AmpSD(k)) {
+			continue
+		}
+		if !(zeta < maxZeta) || fn < a.opt.FMinHz || fn > a.opt.FMaxHz {
+			continue
+		}
+		e := c.Amp * c.Amp / 2 * expSum(c.Sigma/a.fs, len(a.x0))
+		fs = append(fs, found{k, fn, zeta, sdFn, sdZeta, e})
+	}
+	if len(fs) == 0 {
+		return
+	}
+	if len(fs) > a.opt.MaxModes {
+		slices.SortFunc(fs, func(p, r found) int {
+			switch {
+			case p.energy > r.energy:
+				return -1
+			case p.energy < r.energy:
+				return 1
+			}
+			return 0
+		})
+		fs = fs[:a.opt.MaxModes]
+	}
+	slices.SortFunc(fs, func(p, r found) int {
+		switch {
+		case p.fn < r.fn:
+			return -1
+		case p.fn > r.fn:
+			return 1
+		}
+		return 0
+	})
+	var etot float64
+	for _, f := range fs {
+		etot += f.energy
+	}
+	noiseVar := fit.ResidualSD * fit.ResidualSD
+	if a.noise > 0 {
+		noiseVar = a.noise * a.noise
+	}
+	for _, f := range fs {
+		c := fit.Components[f.k]
+		m := pipeline.Mode{
+			FrequencyHz:    f.fn,
+			FrequencyCI95:  [2]float64{f.fn - q*f.sdFn, f.fn + q*f.sdFn},
+			DampingRatio:   f.zeta,
+			DampingRatioCI: [2]float64{f.zeta - q*f.sdZeta, f.zeta + q*f.sdZeta},
+			DampingRatioSD: f.sdZeta,
+			Amplitude:      c.Amp,
+			EnergyShare:    f.energy / etot,
+			DecaySNRdB:     20 * math.Log10(c.Amp/math.Max(a.noise, 1e-300)),
+		}
+		m.Estimates = append(m.Estimates, pipeline.Estimate{Method: MethodNLS, FrequencyHz: f.fn, DampingRatio: f.zeta,
+			Note: fmt.Sprintf("least squares on %d samples, %d components", fit.N, len(fit.Components))})
+		if sub, ok := a.subspaceEstimate(cands[f.k]); ok {
+			m.Estimates = append(m.Estimates, sub)
+		}
+		diag := ModeDiag{ENR: f.energy / noiseVar, ZetaEarly: math.NaN(), ZetaLate: math.NaN(),
+			ExpRSS: math.NaN(), LinRSS: math.NaN()}
+		a.crossChecks(&m, &diag, fit, f.k)
+		// spread of the cross-checks from the primary
+		for _, e := range m.Estimates[1:] {
+			if e.Note != "" && e.Method != MethodSubspace && isNotIsolatedNote(e.Note) {
+				continue
+			}
+			if dv := math.Abs(e.DampingRatio-f.zeta) / f.zeta; dv > m.Spread {
+				m.Spread = dv
+			}
+		}
+		a.modes = append(a.modes, m)
+		a.diags = append(a.diags, diag)
+	}
+}
+
+const noteNotIsolated = "a neighbouring mode lies in the band; not used for the spread"
+
+func isNotIsolatedNote(s string) bool { return s == noteNotIsolated }
+
+// subspaceEstimate returns the pencil's own estimate of a mode, corrected
+// for the exponential window.
+func (a *analysis) subspaceEstimate(cd candidate) (pipeline.Estimate, bool) {
+	c := cd.c
+	wn, zeta := CorrectExpWindow(c.Sigma, c.Omega, a.tau())
+	if !(wn > 0) || math.IsNaN(zeta) {
+		return pipeline.Estimate{}, false
+	}
+	return pipeline.Estimate{Method: MethodSubspace, FrequencyHz: wn / (2 * math.Pi), DampingRatio: zeta,
+		Note: fmt.Sprintf("matrix pencil in the band %.4g-%.4g Hz", cd.band.lo, cd.band.hi)}, true
+}
