@@ -118,11 +118,7 @@ func printResult(w io.Writer, r *pipeline.Result) {
 		fmt.Fprintln(w, "  no mode found")
 	}
 	for _, rs := range r.Reasons {
-		where := ""
-		if rs.Mode != nil {
-			where = fmt.Sprintf("mode %d: ", *rs.Mode+1)
-		}
-		fmt.Fprintf(w, "  %-6s %s: %s%s\n", rs.Severity, rs.Code, where, rs.Message)
+		fmt.Fprintf(w, "  %-6s %s: %s\n", rs.Severity, rs.Code, rs.Message)
 	}
 	fmt.Fprintln(w)
 }

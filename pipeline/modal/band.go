@@ -154,7 +154,7 @@ type band struct {
 // bandwidth), and at least +/- 4 resolution cells; overlapping passbands are
 // merged so that close modes are fitted together. The strongest maxBands
 // bands are kept.
-func planBands(peaks []specPeak, resHz, fmin, fmax float64, maxBands int) []band {
+func planBands(peaks []specPeak, resHz float64, maxBands int) []band {
 	var bs []band
 	for _, pk := range peaks {
 		w := math.Max(5*pk.hpbw, 4*resHz)
@@ -197,8 +197,6 @@ func planBands(peaks []specPeak, resHz, fmin, fmax float64, maxBands int) []band
 	if len(merged) > maxBands {
 		merged = merged[:maxBands]
 	}
-	_ = fmin
-	_ = fmax
 	return merged
 }
 

@@ -167,7 +167,11 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 	if edge < len(env) {
 		e := env[edge:]
 		nbs := nb
-		if tau > 0 { // judge the shape on the unwindowed envelope
+		if tau > 0 {
+			// judge the shape on the envelope with the window divided out
+			// from the onset on: its noise is then the windowed noise at
+			// the onset throughout
+			nbs = nb * math.Exp(-t0/tau)
 			u := make([]float64, len(e))
 			for i, v := range e {
 				u[i] = v * math.Exp(float64(edge+i)/(fsx*tau))
@@ -185,8 +189,6 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 // form, the shape of the transform of a free decay).
 func (a *analysis) halfPower(m *pipeline.Mode, fd, hi float64, isolated bool) {
 	tau := a.tau()
-	c := m.Amplitude
-	_ = c
 	sigRec := 2 * math.Pi * m.FrequencyHz * m.DampingRatio
 	if tau > 0 {
 		sigRec += 1 / tau

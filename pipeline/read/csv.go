@@ -56,6 +56,9 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 			return nil, lineErr(name, lr.line+1, err, "read error")
 		}
 		if lr.line == 1 {
+			if bytes.HasPrefix(line, []byte("\xff\xfe")) || bytes.HasPrefix(line, []byte("\xfe\xff")) {
+				return nil, lineErr(name, 1, ErrUnknownFormat, "unknown format: UTF-16 text (\"Unicode text\" export) is not read; export as UTF-8 or ANSI CSV")
+			}
 			line = bytes.TrimPrefix(line, []byte("\xef\xbb\xbf")) // UTF-8 byte order mark
 		}
 		if i := firstControl(line); i >= 0 {
@@ -219,7 +222,7 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 			if col >= ncol {
 				return nil, rowErr(name, lr.line, nl, "%d cells, the header has %d", ncol+1+bytes.Count(line[end:], []byte{delim}), ncol)
 			}
-			cell := line[start:end]
+			cell := trimSpace(line[start:end])
 			v, txt, fast := fastFloat(cell, decComma)
 			if !fast {
 				var err error
@@ -388,51 +391,6 @@ func parseCell(cell []byte, decComma bool, scratch *[maxCellScratch]byte) (float
 		return 0, errInfCell
 	}
 	return v, nil
-}
-
-// textResolution returns the place value of the last digit of a number
-// as printed: 0.0125 -> 1e-4, 3.90625E-05 -> 1e-10. Integers ("0", "12")
-// return 0: shortest-form printers write whole values that way exactly,
-// while fixed-decimal printers would write "12.000".
-func textResolution(cell []byte) float64 {
-	cell = trimSpace(cell)
-	decimals, exp := 0, 0
-	point := false
-	i := 0
-	for i < len(cell) && (cell[i] == '"' || cell[i] == '+' || cell[i] == '-') {
-		i++
-	}
-	for i < len(cell) && cell[i] >= '0' && cell[i] <= '9' {
-		i++
-	}
-	if i < len(cell) && (cell[i] == '.' || cell[i] == ',') {
-		point = true
-		i++
-		for i < len(cell) && cell[i] >= '0' && cell[i] <= '9' {
-			i++
-			decimals++
-		}
-	}
-	if i < len(cell) && (cell[i] == 'e' || cell[i] == 'E' || cell[i] == 'd' || cell[i] == 'D') {
-		point = true
-		j := i + 1
-		neg := false
-		if j < len(cell) && (cell[j] == '+' || cell[j] == '-') {
-			neg = cell[j] == '-'
-			j++
-		}
-		for j < len(cell) && cell[j] >= '0' && cell[j] <= '9' && exp < 1000 {
-			exp = exp*10 + int(cell[j]-'0')
-			j++
-		}
-		if neg {
-			exp = -exp
-		}
-	}
-	if !point {
-		return 0
-	}
-	return math.Pow10(exp - decimals)
 }
 
 // splitUnit splits "accel [m/s^2]" or "accel (g)" into name and unit.

@@ -97,8 +97,13 @@ func TestCSVTimeColumnNames(t *testing.T) {
 			t.Errorf("%q: %d channels at %g Hz, want 1 at 500 Hz", h, len(rec.Channels), rec.Channels[0].SampleRate)
 		}
 	}
+	// Pre-trigger: time starts below zero.
+	rec, err := CSV(strings.NewReader("time [s],a\n-0.002,1\n-0.001,2\n0,3\n0.001,4\n"), "t.csv", Options{})
+	if err != nil || rec.Channels[0].SampleRate != 1000 {
+		t.Fatalf("negative start: %v %+v", err, rec)
+	}
 	// A column called "temperature [K]" is data, not time.
-	rec, err := CSV(strings.NewReader("# fs: 10\ntemperature [K],a\n1,2\n"), "t.csv", Options{})
+	rec, err = CSV(strings.NewReader("# fs: 10\ntemperature [K],a\n1,2\n"), "t.csv", Options{})
 	if err != nil || len(rec.Channels) != 2 {
 		t.Fatalf("temperature column: %v %+v", err, rec)
 	}
@@ -275,6 +280,7 @@ func TestCSVErrors(t *testing.T) {
 		{"force channel missing", "# fs: 1\na,b\n1,2\n", 0, []string{`force channel "hammer" not found`}, Options{ForceChannel: "hammer"}},
 		{"zero sensitivity", "# fs: 1\na,b\n1,2\n", 0, []string{"sensitivity 0"}, Options{Sensitivity: map[string]float64{"b": 0}}},
 		{"random bytes", string(rnd), -1, []string{"unknown format", "binary byte"}, Options{}},
+		{"UTF-16", "\xff\xfet\x00i\x00m\x00e\x00\n\x00", 1, []string{"UTF-16"}, Options{}},
 	}
 	for _, c := range cases {
 		t.Run(c.label, func(t *testing.T) {

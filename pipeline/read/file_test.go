@@ -207,3 +207,31 @@ func TestErrorFormat(t *testing.T) {
 		}
 	}
 }
+
+// TestData: reading bytes already in memory gives what File gives.
+func TestData(t *testing.T) {
+	for _, n := range []string{"decay-comma.csv", "decay-binary.uff", "three-channel-24bit.wav"} {
+		p := filepath.Join(sampleDir, n)
+		b, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a, err1 := File(p, Options{})
+		d, err2 := Data(p, b, Options{})
+		if err1 != nil || err2 != nil {
+			t.Fatalf("%s: %v %v", n, err1, err2)
+		}
+		if a.Format != d.Format || len(a.Channels) != len(d.Channels) {
+			t.Fatalf("%s: File %q/%d, Data %q/%d", n, a.Format, len(a.Channels), d.Format, len(d.Channels))
+		}
+		for i := range a.Channels {
+			floatsNear(t, n, d.Channels[i].Samples, a.Channels[i].Samples, 0, 0)
+		}
+	}
+	_, err := Data("x.csv", nil, Options{})
+	wantErr(t, err, "x.csv", 0, "empty file")
+	_, err = Data("x.bin", []byte{0, 1, 2, 3, 0xff}, Options{})
+	if !errors.Is(err, ErrUnknownFormat) {
+		t.Errorf("%v is not ErrUnknownFormat", err)
+	}
+}

@@ -99,3 +99,48 @@ func fastFloat(b []byte, comma bool) (v float64, t decimalText, ok bool) {
 	}
 	return v, t, true
 }
+
+// textResolution returns the place value of the last digit of a number
+// as printed: 0.0125 -> 1e-4, 3.90625E-05 -> 1e-10. Integers ("0", "12")
+// return 0: shortest-form printers write whole values that way exactly,
+// while fixed-decimal printers would write "12.000".
+func textResolution(cell []byte) float64 {
+	cell = trimSpace(cell)
+	decimals, exp := 0, 0
+	point := false
+	i := 0
+	for i < len(cell) && (cell[i] == '"' || cell[i] == '+' || cell[i] == '-') {
+		i++
+	}
+	for i < len(cell) && cell[i] >= '0' && cell[i] <= '9' {
+		i++
+	}
+	if i < len(cell) && (cell[i] == '.' || cell[i] == ',') {
+		point = true
+		i++
+		for i < len(cell) && cell[i] >= '0' && cell[i] <= '9' {
+			i++
+			decimals++
+		}
+	}
+	if i < len(cell) && (cell[i] == 'e' || cell[i] == 'E' || cell[i] == 'd' || cell[i] == 'D') {
+		point = true
+		j := i + 1
+		neg := false
+		if j < len(cell) && (cell[j] == '+' || cell[j] == '-') {
+			neg = cell[j] == '-'
+			j++
+		}
+		for j < len(cell) && cell[j] >= '0' && cell[j] <= '9' && exp < 1000 {
+			exp = exp*10 + int(cell[j]-'0')
+			j++
+		}
+		if neg {
+			exp = -exp
+		}
+	}
+	if !point {
+		return 0
+	}
+	return math.Pow10(exp - decimals)
+}

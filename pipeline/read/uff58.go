@@ -44,7 +44,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -295,10 +294,11 @@ func readUFF58Header(lr *lineReader, name string, r *uffRecord) error {
 			r.meta[kv[0]] = kv[1]
 		}
 	}
-	// Record 7.
-	tok := splitNumbers([]byte(h[6]), nil)
-	if len(tok) < 5 {
-		tok = fixedFields([]byte(h[6]), 10, 10, 10, 13, 13, 13)
+	// Record 7: the fixed columns of 3I10,3E13.5 when they hold numbers
+	// (I10 fields may touch: "         41234567890"), else free format.
+	tok := fixedFields([]byte(h[6]), 10, 10, 10, 13, 13, 13)
+	if len(tok) < 5 || !allNumbers(tok) {
+		tok = splitNumbers([]byte(h[6]), nil)
 	}
 	var v7 [5]float64
 	for i := 0; i < 5; i++ {
@@ -602,6 +602,20 @@ func clip(b []byte) string {
 	return toUTF8(b)
 }
 
+// allNumbers reports whether every field is one number (no inner blanks).
+func allNumbers(f [][]byte) bool {
+	for _, b := range f {
+		t := trimSpace(b)
+		if len(t) == 0 || hasSpace(t) {
+			return false
+		}
+		if _, ok := parseFortranFloat(t); !ok {
+			return false
+		}
+	}
+	return true
+}
+
 // fixedFields cuts a line into fields of the given widths.
 func fixedFields(line []byte, widths ...int) [][]byte {
 	var out [][]byte
@@ -754,14 +768,4 @@ func (lr *lineReader) discard(n int64) error {
 		}
 	}
 	return nil
-}
-
-// sortedKeys returns the keys of m in order.
-func sortedKeys(m map[string]string) []string {
-	k := make([]string, 0, len(m))
-	for s := range m {
-		k = append(k, s)
-	}
-	sort.Strings(k)
-	return k
 }

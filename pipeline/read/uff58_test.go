@@ -310,6 +310,7 @@ func TestUFFErrors(t *testing.T) {
 		{"header cut", "    -1\n    58\nacc\nNONE\nNONE\n    -1\n", 6, []string{"ends after 3 of its 11 header lines"}},
 		{"header cut at end", "    -1\n    58\nacc\nNONE\n", 2, []string{"ends after 2 of its 11 header lines"}},
 		{"bad record 6", strings.Replace(ok.ascii(data3), "    1         7", "    x         7", 1), 8, []string{"record 6", "not an integer"}},
+		{"touching I10 fields", strings.Replace(ok.ascii(data3), fmt.Sprintf("%10d%10d", 4, 3), fmt.Sprintf("%10d%10d", 4, 1234567890), 1), 15, []string{"holds 3 values, the header (line 9) announces 1234567890"}},
 		{"bad record 7", strings.Replace(ok.ascii(data3), fmt.Sprintf("%10d%10d", 4, 3), fmt.Sprintf("%10d%10s", 4, "three"), 1), 9, []string{"record 7"}},
 		{"missing delimiter", "    -1\n    58\n" + ok.header() + data3 + "garbage\n", 15, []string{"not a number"}},
 		{"text after dataset", ok.ascii(data3) + "hello\n", 16, []string{`expected the "    -1" delimiter line, found "hello"`}},
@@ -341,4 +342,20 @@ func TestUFFErrors(t *testing.T) {
 	if errors.As(err, &e) && e.Offset != int64(len(binOK)-20) {
 		t.Errorf("offset %d, want %d", e.Offset, len(binOK)-20)
 	}
+}
+
+// TestUFFFreeFormat: writers that separate the header fields by single
+// spaces instead of the fixed columns.
+func TestUFFFreeFormat(t *testing.T) {
+	in := "-1\n58\nacc\nNONE\nNONE\nNONE\nNONE\n1 0 0 0 NONE 5 3 NONE 0 0\n4 3 1 0.0 0.001 0.0\n" +
+		"17 0 0 0 Time s\n12 0 0 0 Accel g\n0 0 0 0 NONE NONE\n0 0 0 0 NONE NONE\n1 2 3\n-1\n"
+	rec, err := UFF58(strings.NewReader(in), "free.uff", Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := rec.Channels[0]
+	if c.SampleRate != 1000 || c.Unit != "g" || rec.Meta["acc.response_node"] != "5" || rec.Meta["acc.ordinate_label"] != "Accel" {
+		t.Errorf("%+v %v", c, rec.Meta)
+	}
+	floatsNear(t, "acc", c.Samples, []float64{1, 2, 3}, 0, 0)
 }

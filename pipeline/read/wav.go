@@ -217,29 +217,34 @@ func readWAVData(w *wavIn, name string, opt Options, f *wavFmt, chunkOff, sz, si
 	if len(opt.Names) > 0 && len(opt.Names) != f.channels {
 		return nil, fileErr(name, nil, "%d channel names configured for a WAV file of %d channels", len(opt.Names), f.channels)
 	}
-	prealloc := frames
-	if limit := int64(1<<20) / int64(f.channels); size < 0 && prealloc > limit {
-		prealloc = limit // size unknown: do not trust the header with memory
+	// With the size unknown, read the chunk first: memory then follows
+	// the bytes really there, not the size the header claims.
+	var raw []byte
+	if size < 0 {
+		var err error
+		raw, err = io.ReadAll(io.LimitReader(w.br, sz))
+		w.off += int64(len(raw))
+		if err != nil {
+			return nil, offErr(name, w.off, err, "read error")
+		}
+		if int64(len(raw)) < sz {
+			return nil, offErr(name, w.off, nil, "truncated data chunk: it declares %d bytes from byte %d, but the file ends after %d bytes of data", sz, start, len(raw))
+		}
 	}
+	// One backing array for all channels.
+	back := make([]float64, frames*int64(f.channels))
 	out := make([][]float64, f.channels)
 	for c := range out {
-		out[c] = make([]float64, 0, prealloc)
+		out[c] = back[int64(c)*frames : int64(c)*frames : int64(c+1)*frames]
 	}
-	framesPerBuf := max(1, (64<<10)/frame)
-	buf := make([]byte, framesPerBuf*frame)
 	le := binary.LittleEndian
-	for remaining := sz; remaining > 0; {
-		k := min(int64(len(buf)), remaining)
-		bufOff := w.off
-		n, err := w.read(buf[:k])
-		whole := int64(n) / frame * frame
-		b := buf[:whole]
+	decode := func(b []byte, bufOff int64) error {
 		switch {
 		case f.float && bps == 4:
 			for i := 0; i < len(b); i += 4 {
 				v := float64(math.Float32frombits(le.Uint32(b[i:])))
 				if v-v != 0 {
-					return nil, offErr(name, bufOff+int64(i), nil, "sample is %g", v)
+					return offErr(name, bufOff+int64(i), nil, "sample is %g", v)
 				}
 				c := (i / 4) % f.channels
 				out[c] = append(out[c], v)
@@ -248,7 +253,7 @@ func readWAVData(w *wavIn, name string, opt Options, f *wavFmt, chunkOff, sz, si
 			for i := 0; i < len(b); i += 8 {
 				v := math.Float64frombits(le.Uint64(b[i:]))
 				if v-v != 0 {
-					return nil, offErr(name, bufOff+int64(i), nil, "sample is %g", v)
+					return offErr(name, bufOff+int64(i), nil, "sample is %g", v)
 				}
 				c := (i / 8) % f.channels
 				out[c] = append(out[c], v)
@@ -275,10 +280,26 @@ func readWAVData(w *wavIn, name string, opt Options, f *wavFmt, chunkOff, sz, si
 				out[c] = append(out[c], float64(int32(le.Uint32(b[i:])))/(1<<31))
 			}
 		}
-		if err != nil {
-			return nil, offErr(name, w.off, nil, "truncated data chunk: it declares %d bytes from byte %d, but the file ends after %d bytes of data", sz, start, sz-remaining+int64(n))
+		return nil
+	}
+	if raw != nil {
+		if err := decode(raw, start); err != nil {
+			return nil, err
 		}
-		remaining -= k
+	} else {
+		buf := make([]byte, max(1, (64<<10)/frame)*frame)
+		for remaining := sz; remaining > 0; {
+			k := min(int64(len(buf)), remaining)
+			bufOff := w.off
+			n, err := w.read(buf[:k])
+			if derr := decode(buf[:int64(n)/frame*frame], bufOff); derr != nil {
+				return nil, derr
+			}
+			if err != nil {
+				return nil, offErr(name, w.off, nil, "truncated data chunk: it declares %d bytes from byte %d, but the file ends after %d bytes of data", sz, start, sz-remaining+int64(n))
+			}
+			remaining -= k
+		}
 	}
 	kind := "pcm"
 	fullScale := 1.0

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -382,3 +383,13 @@ func writeUFF58(w io.Writer, rec *pipeline.Recording, bin, single bool) error {
 }
 
 var binaryLE = binary.LittleEndian
+
+// sortedKeys returns the keys of m in order.
+func sortedKeys(m map[string]string) []string {
+	k := make([]string, 0, len(m))
+	for s := range m {
+		k = append(k, s)
+	}
+	sort.Strings(k)
+	return k
+}

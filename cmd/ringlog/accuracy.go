@@ -1,0 +1,38 @@
+package main
+
+import (
+	"context"
+	"fmt"
+
+	"github.com/ringlog/ringlog/pipeline/modal/accuracy"
+)
+
+func init() {
+	register(command{name: "accuracy", summary: "print the Monte Carlo accuracy table of the damping estimate (bias, sd over the Cramer-Rao bound, interval coverage)", run: runAccuracy})
+}
+
+func runAccuracy(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("accuracy", "[--quick] [--trials N] [--seed S] [--no-force]", e.stderr)
+	quick := fs.Bool("quick", false, "a reduced grid with fewer trials (about a minute)")
+	trials := fs.Int("trials", 0, "Monte Carlo trials per cell (default 200, 40 with --quick)")
+	seed := fs.Uint64("seed", 1, "random seed")
+	noForce := fs.Bool("no-force", false, "analyse the response alone (no hammer channel)")
+	rest, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	if *trials < 0 {
+		return usagef("--trials must be positive")
+	}
+	tab, err := accuracy.Run(ctx, accuracy.Config{Quick: *quick, Trials: *trials, Seed: *seed, NoForce: *noForce}, e.stdout)
+	if err != nil {
+		return err
+	}
+	if !tab.Pass {
+		fmt.Fprintln(e.stdout, "\nsome cells miss their target (marked above)")
+	}
+	return nil
+}
