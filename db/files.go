@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 	"time"
 )
@@ -227,10 +228,38 @@ ON CONFLICT (path) DO UPDATE SET
 	})
 }
 
+// Vanished notes that a file was deleted before it was recorded: a
+// pending row that never produced a hit is dropped (so the queue does not
+// show it for ever); a pending row of a version already recorded goes back
+// to analysed.
+func (db *DB) Vanished(ctx context.Context, path string) error {
+	return db.write(ctx, "forget vanished "+path, func(tx *sql.Tx) error {
+		if _, err := tx.ExecContext(ctx, `DELETE FROM files WHERE path = ? AND state = 'pending' AND hit_id IS NULL`, path); err != nil {
+			return err
+		}
+		_, err := tx.ExecContext(ctx, `UPDATE files SET state = 'analysed' WHERE path = ? AND state = 'pending' AND hit_id IS NOT NULL`, path)
+		return err
+	})
+}
+
+// Bounds of what int64 nanoseconds since 1970 can hold (years 1678 to
+// 2262); times outside are clamped rather than wrapped.
+var (
+	minNSTime = time.Unix(0, math.MinInt64+1)
+	maxNSTime = time.Unix(0, math.MaxInt64)
+)
+
 // toNS stores a time as nanoseconds since 1970 UTC; the zero time is 0.
+// Times beyond what int64 nanoseconds hold are clamped.
 func toNS(t time.Time) int64 {
 	if t.IsZero() {
 		return 0
+	}
+	if t.After(maxNSTime) {
+		return math.MaxInt64
+	}
+	if t.Before(minNSTime) {
+		return math.MinInt64 + 1
 	}
 	return t.UnixNano()
 }

@@ -74,11 +74,11 @@ func (f Filter) where() (string, []any) {
 	eq("h.direction", f.Direction)
 	if !f.Since.IsZero() {
 		conds = append(conds, "h.hit_time >= ?")
-		args = append(args, f.Since.UnixNano())
+		args = append(args, toNS(f.Since))
 	}
 	if !f.Until.IsZero() {
 		conds = append(conds, "h.hit_time < ?")
-		args = append(args, f.Until.UnixNano())
+		args = append(args, toNS(f.Until))
 	}
 	if len(f.Verdicts) > 0 {
 		conds = append(conds, "h.verdict IN ("+placeholders(len(f.Verdicts))+")")

@@ -537,3 +537,56 @@ func TestConcurrentWriters(t *testing.T) {
 		t.Errorf("%d duplicates of the shared content, want %d", st.Files[StateDuplicate], writers-1)
 	}
 }
+
+// TestVanished: a file marked pending and deleted before it was read
+// leaves no pending row behind (status would show it in the queue for
+// ever); a pending re-read of a recorded version goes back to analysed.
+func TestVanished(t *testing.T) {
+	ctx := context.Background()
+	db := openTemp(t)
+	now := time.Now()
+	gone := fileInfo("/export/gone.csv", "a", now)
+	if err := db.MarkPending(ctx, gone); err != nil {
+		t.Fatal(err)
+	}
+	kept := fileInfo("/export/kept.csv", "b", now)
+	if _, err := db.RecordResult(ctx, kept, HitMeta{}, sampleResult(kept.Path), nil); err != nil {
+		t.Fatal(err)
+	}
+	if err := db.MarkPending(ctx, kept); err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []string{gone.Path, kept.Path} {
+		if err := db.Vanished(ctx, p); err != nil {
+			t.Fatal(err)
+		}
+	}
+	st, err := db.Status(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Pending != 0 || st.Files[StateAnalysed] != 1 {
+		t.Fatalf("after Vanished: pending %d, analysed %d; want 0 and 1", st.Pending, st.Files[StateAnalysed])
+	}
+	if _, ok, _ := db.File(ctx, gone.Path); ok {
+		t.Error("row of the vanished, never-recorded file is still there")
+	}
+}
+
+// TestFarFutureFilter: a filter date beyond what int64 nanoseconds hold
+// (year 2262) is clamped, not wrapped into the past.
+func TestFarFutureFilter(t *testing.T) {
+	ctx := context.Background()
+	db := openTemp(t)
+	fi := fileInfo("/export/a.csv", "a", time.Now())
+	if _, err := db.RecordResult(ctx, fi, HitMeta{HitTime: time.Now()}, sampleResult(fi.Path), nil); err != nil {
+		t.Fatal(err)
+	}
+	hits, err := db.Hits(ctx, Filter{Since: time.Date(2999, 1, 1, 0, 0, 0, 0, time.UTC)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(hits) != 0 {
+		t.Fatalf("--since 2999 matched %d hits", len(hits))
+	}
+}

@@ -42,6 +42,14 @@ type Config struct {
 	Settle       duration `toml:"settle"`
 	ScanInterval duration `toml:"scan_interval"`
 	Workers      int      `toml:"workers"`
+	// OpenRetries and OpenBackoff: how often and how patiently a file the
+	// recorder still holds locked is retried before it is recorded as
+	// failed.
+	OpenRetries int      `toml:"open_retries"`
+	OpenBackoff duration `toml:"open_backoff"`
+	// MaxFileSize in bytes: larger files are recorded as failed rather than
+	// read into memory (default 1 GiB).
+	MaxFileSize int64 `toml:"max_file_size"`
 
 	Folders    []FolderConfig    `toml:"folder"`
 	Channels   []ChannelConfig   `toml:"channel"`
@@ -91,14 +99,14 @@ type ModeConfig struct {
 
 // AnalysisConfig are the analysis defaults.
 type AnalysisConfig struct {
-	Channel      string  `toml:"channel"`
-	ForceChannel string  `toml:"force_channel"`
-	WindowTauS   float64 `toml:"window_tau"`
-	SampleRate   float64 `toml:"sample_rate"`
+	Channel      string   `toml:"channel"`
+	ForceChannel string   `toml:"force_channel"`
+	WindowTauS   float64  `toml:"window_tau"`
+	SampleRate   float64  `toml:"sample_rate"`
 	WAVChannels  []string `toml:"wav_channels"` // names of WAV channels in file order
-	MaxModes     int     `toml:"max_modes"`
-	FMinHz       float64 `toml:"fmin_hz"`
-	FMaxHz       float64 `toml:"fmax_hz"`
+	MaxModes     int      `toml:"max_modes"`
+	FMinHz       float64  `toml:"fmin_hz"`
+	FMaxHz       float64  `toml:"fmax_hz"`
 }
 
 // ReportConfig sets the daily report.
@@ -180,6 +188,12 @@ func (c *Config) validate() error {
 	}
 	if c.Workers <= 0 {
 		c.Workers = runtime.NumCPU()
+	}
+	if c.MaxFileSize <= 0 {
+		c.MaxFileSize = 1 << 30
+	}
+	if c.OpenRetries < 0 {
+		return fmt.Errorf("config %s: open_retries must not be negative", c.path)
 	}
 	return nil
 }

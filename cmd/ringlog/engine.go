@@ -115,6 +115,10 @@ func (e *engine) analyse(j job) (o outcome) {
 	}
 	o.fi.Size = st.Size()
 	o.fi.MTime = st.ModTime()
+	if limit := e.cfg.MaxFileSize; limit > 0 && st.Size() > limit {
+		o.err = fmt.Errorf("%s: file too large: %d MB, the limit (max_file_size) is %d MB", j.path, st.Size()>>20, limit>>20)
+		return o
+	}
 	data, err := os.ReadFile(j.path)
 	if err != nil {
 		o.err = err
@@ -130,9 +134,10 @@ func (e *engine) analyse(j job) (o outcome) {
 func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 	if o.err != nil {
 		if errors.Is(o.err, os.ErrNotExist) {
-			// Deleted before it was read: nothing to record.
+			// Deleted before it was read: nothing to record, and no
+			// pending row left behind.
 			e.log.Debug().Str("file", o.path).Msg("file vanished before it was read")
-			return db.Outcome{}, nil
+			return db.Outcome{}, e.store.Vanished(ctx, o.path)
 		}
 		e.log.Warn().Str("file", o.path).Err(o.err).Msg("file could not be read; recorded as failed")
 		return db.Outcome{}, e.store.RecordFailure(ctx, o.fi, o.err, true)

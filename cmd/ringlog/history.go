@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
-	"math"
 	"os"
 	"strings"
 	"time"
@@ -44,13 +43,11 @@ func (f *filterFlags) filter() (db.Filter, error) {
 		if out.Since, ok = parseTime(*f.since); !ok {
 			return out, usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.since)
 		}
-		out.Since = clampNS(out.Since)
 	}
 	if *f.until != "" {
 		if out.Until, ok = parseTime(*f.until); !ok {
 			return out, usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.until)
 		}
-		out.Until = clampNS(out.Until)
 	}
 	if *f.verdict != "" {
 		for _, v := range strings.Split(*f.verdict, ",") {
@@ -63,20 +60,6 @@ func (f *filterFlags) filter() (db.Filter, error) {
 		}
 	}
 	return out, nil
-}
-
-// clampNS keeps t within what int64 nanoseconds since 1970 can hold (the
-// years 1678 to 2262), as the database stores times: UnixNano of a time
-// outside that range wraps, so "--since 2999-01-01" matched every hit.
-func clampNS(t time.Time) time.Time {
-	lo, hi := time.Unix(0, math.MinInt64), time.Unix(0, math.MaxInt64)
-	if t.Before(lo) {
-		return lo
-	}
-	if t.After(hi) {
-		return hi
-	}
-	return t
 }
 
 // openExisting opens a database that must already exist (queries never

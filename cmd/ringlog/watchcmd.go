@@ -5,6 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
+	"os"
 	"sync"
 	"time"
 
@@ -68,7 +70,12 @@ type Main struct {
 // Open sets up logging, opens the database, takes the single-writer lock
 // and checks the folders. It fails with a clear message when another
 // daemon holds the database.
-func (m *Main) Open(ctx context.Context) error {
+func (m *Main) Open(ctx context.Context) (err error) {
+	defer func() {
+		if err != nil {
+			m.Close()
+		}
+	}()
 	cfg := m.Config
 	if cfg.Database == "" {
 		return fmt.Errorf("config %s: database is not set", cfg.path)
@@ -88,12 +95,14 @@ func (m *Main) Open(ctx context.Context) error {
 	m.store = store
 	release, err := store.LockWriter()
 	if err != nil {
-		store.Close()
-		m.store = nil
 		return err
 	}
 	m.release = release
-	wc := watch.Config{Settle: cfg.Settle.Duration, ScanInterval: cfg.ScanInterval.Duration, Logger: log}
+	if err := m.dropVanished(ctx); err != nil {
+		return err
+	}
+	wc := watch.Config{Settle: cfg.Settle.Duration, ScanInterval: cfg.ScanInterval.Duration, Logger: log,
+		OpenRetries: cfg.OpenRetries, OpenBackoff: cfg.OpenBackoff.Duration}
 	for _, f := range cfg.Folders {
 		wc.Folders = append(wc.Folders, watch.Folder{Path: f.Path, Recursive: f.Recursive, Include: f.Include, Poll: f.Poll})
 	}
@@ -106,6 +115,24 @@ func (m *Main) Open(ctx context.Context) error {
 	}
 	m.watcher = w
 	m.started = make(chan struct{})
+	return nil
+}
+
+// dropVanished clears pending rows of files deleted while no daemon ran
+// (the queue must not show them for ever). Files still there are found
+// again by the first scan.
+func (m *Main) dropVanished(ctx context.Context) error {
+	pending, err := m.store.PendingFiles(ctx)
+	if err != nil {
+		return err
+	}
+	for _, p := range pending {
+		if _, err := os.Stat(p.Path); errors.Is(err, fs.ErrNotExist) {
+			if err := m.store.Vanished(ctx, p.Path); err != nil {
+				return err
+			}
+		}
+	}
 	return nil
 }
 
