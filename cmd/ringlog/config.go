@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -11,6 +12,8 @@ import (
 	"time"
 
 	"github.com/BurntSushi/toml"
+
+	"github.com/ringlog/ringlog/pipeline"
 
 	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/process"
@@ -178,6 +181,13 @@ func (c *Config) validate() error {
 			return fmt.Errorf("config %s: channel %q: sensitivity must be positive", c.path, ch.Name)
 		}
 	}
+	for _, p := range c.Prototypes {
+		for _, m := range p.Modes {
+			if m.FrequencyHz <= 0 || m.Tolerance < 0 {
+				return fmt.Errorf("config %s: prototype %q mode %q: frequency_hz must be positive and tolerance not negative", c.path, p.Name, m.Label)
+			}
+		}
+	}
 	if c.Report.Time != "" {
 		if _, err := time.Parse("15:04", c.Report.Time); err != nil {
 			return fmt.Errorf("config %s: report time %q: write it as HH:MM", c.path, c.Report.Time)
@@ -269,3 +279,31 @@ func (f *FolderConfig) fileMeta(path string) map[string]string {
 }
 
 func defaultThresholds() check.Thresholds { return check.DefaultThresholds() }
+
+// labelModes gives each mode of res the label of the expected mode of the
+// prototype nearest in frequency within its tolerance (default 10 %).
+// Modes that match none keep an empty label; the statistics cluster them.
+func (c *Config) labelModes(prototype string, res *pipeline.Result) {
+	if res == nil {
+		return
+	}
+	for _, p := range c.Prototypes {
+		if p.Name != prototype {
+			continue
+		}
+		for i := range res.Modes {
+			m := &res.Modes[i]
+			best := math.Inf(1)
+			for _, em := range p.Modes {
+				tol := em.Tolerance
+				if tol <= 0 {
+					tol = 0.1
+				}
+				d := math.Abs(m.FrequencyHz-em.FrequencyHz) / em.FrequencyHz
+				if d <= tol && d < best {
+					best, m.Label = d, em.Label
+				}
+			}
+		}
+	}
+}

@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strings"
 	"sync"
 	"time"
 
@@ -207,7 +208,11 @@ prototype = "gantry-arm"
 bay = "bay-3"
 # R1_P04_z_0012.csv -> revision R1, point P04, direction z
 pattern = '^(?P<revision>R\d+)_(?P<point>P\d+)_(?P<direction>[xyz])_'
-`
+
+# The modes expected on the gantry arm: hits are labelled by the nearest.
+[[prototype]]
+name = "gantry-arm"
+%s`
 
 func runDemo(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("demo", "[--dir DIR] [--hits N] [--interval DURATION]", e.stderr)
@@ -237,8 +242,12 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	}
 	cfgPath := filepath.Join(root, "ringlog.toml")
 	dbPath := filepath.Join(root, "history.db")
+	var expected strings.Builder
+	for _, dm := range demoModes {
+		fmt.Fprintf(&expected, "[[prototype.mode]]\nlabel = %q\nfrequency_hz = %g\ntolerance = 0.08\n", dm.label, dm.fHz)
+	}
 	cfgText := fmt.Sprintf(demoConfig, dbPath, filepath.Join(root, "ringlog.log"),
-		1/demoWAVForceFS, demoWAVForceFS, 1/demoWAVAccelFS, export)
+		1/demoWAVForceFS, demoWAVForceFS, 1/demoWAVAccelFS, export, expected.String())
 	if err := os.WriteFile(cfgPath, []byte(cfgText), 0o644); err != nil {
 		return err
 	}
@@ -342,12 +351,7 @@ func demoSummary(ctx context.Context, e *env, store *db.DB, root, dbPath, cfgPat
 			if md.Dropped {
 				continue
 			}
-			label := ""
-			for _, dm := range demoModes {
-				if math.Abs(md.FrequencyHz-dm.fHz) < 0.08*dm.fHz {
-					label = dm.label
-				}
-			}
+			label := md.Label
 			if label == "" {
 				continue
 			}

@@ -143,6 +143,7 @@ func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 		return db.Outcome{}, e.store.RecordFailure(ctx, o.fi, o.err, true)
 	}
 	meta := hitMeta(o)
+	e.cfg.labelModes(meta.Prototype, o.res)
 	out, err := e.store.RecordResult(ctx, o.fi, meta, o.res, settingsOf(e.cfg, o.folder))
 	if err != nil {
 		return out, err
