@@ -145,6 +145,8 @@ type Result struct {
 	SampleRate      float64           `json:"sample_rate_hz"`
 	DurationS       float64           `json:"duration_s"`
 	NoiseRMS        float64           `json:"noise_rms"`
+	TriggerS        float64           `json:"trigger_s"`              // time of the impact from the record start
+	OnsetS          float64           `json:"onset_s"`                // start of the free decay the estimators used
 	WindowTauS      float64           `json:"window_tau_s,omitempty"` // exponential window corrected for
 	Verdict         Verdict           `json:"verdict"`
 	Reasons         []Reason          `json:"reasons"`

@@ -23,10 +23,10 @@ type Options struct {
 	Read         read.Options
 	// FullScale and Units override, per channel name, what the file says
 	// (WAV files carry neither).
-	FullScale map[string]float64
-	Units     map[string]string
-	Modal        modal.Options
-	Thresholds   check.Thresholds
+	FullScale  map[string]float64
+	Units      map[string]string
+	Modal      modal.Options
+	Thresholds check.Thresholds
 }
 
 // Defaults returns the options used when nothing is configured.
@@ -111,6 +111,8 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 		return nil, fmt.Errorf("%s: channel %q: %w", rec.Path, resp.Name, err)
 	}
 	res.NoiseRMS = dec.NoiseRMS
+	res.TriggerS = float64(dec.Trigger) / resp.SampleRate
+	res.OnsetS = float64(dec.Onset) / resp.SampleRate
 	res.Modes = append(res.Modes, dec.Modes...)
 	res.Reasons = append(res.Reasons, check.Run(check.Input{Rec: rec, Response: resp, Force: force, Decay: dec}, th)...)
 	res.SortModes()
