@@ -1,0 +1,105 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+
+	"github.com/ringlog/ringlog/db"
+	rpt "github.com/ringlog/ringlog/report"
+)
+
+func init() {
+	register(command{name: "compare", summary: "compare the damping and frequency of every mode between two revisions", run: runCompare})
+}
+
+// compareJSON is the one line of 'compare --json'.
+type compareJSON struct {
+	Prototype string               `json:"prototype"`
+	RevisionA string               `json:"revision_a"`
+	RevisionB string               `json:"revision_b"`
+	Modes     []rpt.ModeComparison `json:"modes"`
+}
+
+func runCompare(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("compare", "--db PATH --prototype P --revision A --revision B [--json] [--config FILE]", e.stderr)
+	rf := addReportFlags(fs)
+	var revs stringList
+	fs.Var(&revs, "revision", "a revision to compare; give it twice, the first is the reference A")
+	asJSON := fs.Bool("json", false, "print one JSON object")
+	rest, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	if len(revs) != 2 {
+		return usagef("give --revision exactly twice (reference first), got %d", len(revs))
+	}
+	a, b := revs[0], revs[1]
+	if a == b {
+		return usagef("--revision %s given twice: compare two different revisions", a)
+	}
+	src, err := rf.open(ctx)
+	if err != nil {
+		return err
+	}
+	defer src.Close()
+	hits, err := src.hits(ctx, db.Filter{}, a, b)
+	if err != nil {
+		return err
+	}
+	count := map[string]int{}
+	for _, h := range hits {
+		count[h.Meta.Revision]++
+	}
+	if count[a] == 0 || count[b] == 0 {
+		for _, r := range []string{a, b} {
+			if count[r] == 0 {
+				noHits(e.stderr, src.prototype, r)
+			}
+		}
+		return nil
+	}
+	// One identification over both revisions: a label names the same
+	// mode in each.
+	id := rpt.Identify(hits, src.identify)
+	cs := rpt.Compare(id, a, b)
+	if *asJSON {
+		if cs == nil {
+			cs = []rpt.ModeComparison{}
+		}
+		return writeReportJSON(e.stdout, compareJSON{Prototype: src.prototype, RevisionA: a, RevisionB: b, Modes: cs})
+	}
+	printCompare(e.stdout, src.prototype, a, b, cs)
+	return nil
+}
+
+func printCompare(w io.Writer, proto, a, b string, cs []rpt.ModeComparison) {
+	fmt.Fprintf(w, "prototype %s: revision %s against %s\n", proto, b, a)
+	if len(cs) == 0 {
+		fmt.Fprintln(w, "  no usable mode in either revision")
+	}
+	for _, c := range cs {
+		fmt.Fprintf(w, "\n  %s\n    %s\n", c.Name, c.Sentence)
+		if c.NA >= 2 && c.NB >= 2 {
+			fmt.Fprintf(w, "    geometric-mean zeta %s %% (%s, %d hits) -> %s %% (%s, %d hits); ratio %s [%s], %s\n",
+				fpct(c.GeoMeanA), a, c.NA, fpct(c.GeoMeanB), b, c.NB, fnum("%.3f", c.Ratio),
+				fint(func(x float64) string { return fnum("%.3f", x) }, c.RatioCI95), pvalue(c.P))
+			fmt.Fprintf(w, "    %s\n", c.FrequencySentence)
+		}
+	}
+	fmt.Fprintln(w, "\n  (Welch's t test on log damping ratio: the ratio is of geometric means; intervals 95 %)")
+}
+
+func pvalue(p float64) string {
+	switch {
+	case p != p:
+		return "p = -"
+	case p < 0.001:
+		return "p < 0.001"
+	default:
+		return fmt.Sprintf("p = %.3f", p)
+	}
+}

@@ -1,0 +1,171 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"github.com/ringlog/ringlog/db"
+	rpt "github.com/ringlog/ringlog/report"
+)
+
+func init() {
+	register(command{name: "stats", summary: "per-mode scatter of damping and frequency over the history of a prototype", run: runStats})
+}
+
+func runStats(ctx context.Context, e *env, args []string) error {
+	fs := newFlags("stats", "--db PATH --prototype P [--revision R] [--mode L] [--since DATE] [--until DATE] [--json|--csv] [--config FILE]", e.stderr)
+	rf := addReportFlags(fs)
+	revision := fs.String("revision", "", "only this revision (default: every revision, one block each)")
+	modeL := fs.String("mode", "", "only the mode with this label")
+	since := fs.String("since", "", "only hits at or after this date (YYYY-MM-DD or RFC 3339)")
+	until := fs.String("until", "", "only hits before this date (YYYY-MM-DD or RFC 3339)")
+	asJSON := fs.Bool("json", false, "print one JSON object per revision, one per line")
+	asCSV := fs.Bool("csv", false, "print one CSV row per revision and mode")
+	rest, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) > 0 {
+		return usagef("unexpected argument %q", rest[0])
+	}
+	if *asJSON && *asCSV {
+		return usagef("--json and --csv exclude each other")
+	}
+	f := db.Filter{Revision: *revision}
+	var ok bool
+	if *since != "" {
+		if f.Since, ok = parseTime(*since); !ok {
+			return usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", *since)
+		}
+	}
+	if *until != "" {
+		if f.Until, ok = parseTime(*until); !ok {
+			return usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", *until)
+		}
+	}
+	src, err := rf.open(ctx)
+	if err != nil {
+		return err
+	}
+	defer src.Close()
+	hits, err := src.hits(ctx, f)
+	if err != nil {
+		return err
+	}
+	if len(hits) == 0 {
+		noHits(e.stderr, src.prototype, *revision)
+		return nil
+	}
+	id := rpt.Identify(hits, src.identify)
+	if *modeL != "" {
+		if _, ok := id.Label(*modeL); !ok {
+			fmt.Fprintf(e.stderr, "no mode labelled %q in these hits; the modes are: %s\n", *modeL, labelNames(id))
+			return nil
+		}
+	}
+	all := rpt.Stats(id)
+	if *modeL != "" {
+		for i := range all {
+			var keep []rpt.ModeStat
+			for _, m := range all[i].Modes {
+				if m.Label == *modeL {
+					keep = append(keep, m)
+				}
+			}
+			all[i].Modes = keep
+		}
+	}
+	switch {
+	case *asJSON:
+		for _, rs := range all {
+			if err := writeReportJSON(e.stdout, rs); err != nil {
+				return err
+			}
+		}
+	case *asCSV:
+		return writeStatsCSV(e.stdout, all)
+	default:
+		for _, rs := range all {
+			printStats(e.stdout, rs)
+		}
+	}
+	return nil
+}
+
+// printStats writes the table of one revision.
+func printStats(w io.Writer, rs rpt.RevisionStats) {
+	fmt.Fprintf(w, "prototype %s, revision %s: %d hit(s), %d used\n", orDash(rs.Prototype), revLabel(rs.Revision), rs.HitsSeen, rs.HitsUsed)
+	if len(rs.Modes) > 0 {
+		fmt.Fprintf(w, "  %-18s %4s  %-15s %8s %-19s %8s %6s %8s  %-29s %s\n", "mode", "n", "quantity", "mean", "95 % interval", "sd", "cv", "median",
+			"geometric mean (95 %)", "bootstrap 95 %")
+	}
+	for _, m := range rs.Modes {
+		d, f := m.Damping, m.Frequency
+		fmt.Fprintf(w, "  %-18s %4d  %-15s %8s %-19s %8s %6s %8s  %-29s %s\n", m.Name, d.N, "zeta [%]", fpct(d.Mean),
+			fint(fpct, d.MeanCI95), fpct(d.SD), fnum("%.0f%%", 100*d.CV), fpct(d.Median),
+			fpct(d.GeoMean)+" ("+fint(fpct, d.GeoMeanCI)+")", fint(fpct, d.BootstrapCI95))
+		hz := func(x float64) string { return fnum("%.5g", x) }
+		fmt.Fprintf(w, "  %-18s %4s  %-15s %8s %-19s %8s %6s %8s  %-29s %s\n", "", "", "frequency [Hz]", hz(f.Mean),
+			fint(hz, f.MeanCI95), fnum("%.3g", f.SD), fnum("%.1f%%", 100*f.CV), hz(f.Median), "", fint(hz, f.BootstrapCI95))
+	}
+	for _, m := range rs.Modes {
+		for _, o := range m.Outliers {
+			v, med := fnum("%.4g Hz", o.Value), fnum("%.4g Hz", o.Median)
+			if o.Quantity == "damping_ratio" {
+				v, med = fpct(o.Value)+" %", fpct(o.Median)+" %"
+			}
+			fmt.Fprintf(w, "  outlier  %s %s %s (median %s, %.1f scaled MADs): hit %d %s\n", m.Name, strings.ReplaceAll(o.Quantity, "_", " "), v, med, o.Score, o.HitID, o.File)
+		}
+	}
+	if len(rs.Unmatched) > 0 {
+		fmt.Fprintf(w, "  %d unmatched mode(s), kept but in no mode's statistics:\n", len(rs.Unmatched))
+		for _, o := range rs.Unmatched {
+			fmt.Fprintf(w, "    %10.4g Hz  zeta %7.3f %%  hit %d %s\n", o.FrequencyHz, 100*o.DampingRatio, o.HitID, o.File)
+		}
+	}
+	if len(rs.Excluded) > 0 {
+		var parts []string
+		for _, x := range rs.Excluded {
+			what := "hit(s) rejected"
+			if x.What == "mode" {
+				what = "mode(s) dropped"
+			}
+			parts = append(parts, fmt.Sprintf("%d %s (%s)", x.Count, what, x.Code))
+		}
+		fmt.Fprintf(w, "  excluded: %s\n", strings.Join(parts, ", "))
+	}
+	if len(rs.Modes) == 0 {
+		fmt.Fprintln(w, "  no usable mode")
+	}
+	fmt.Fprintln(w, "  (zeta = damping ratio in % of critical; intervals 95 %; outliers: more than 3 x 1.4826 x MAD from the median, listed, not removed)")
+	fmt.Fprintln(w)
+}
+
+// statsCSVHeader is the header of 'stats --csv'.
+var statsCSVHeader = []string{"prototype", "revision", "label", "name", "label_source", "n",
+	"damping_ratio_mean", "damping_ratio_ci95_low", "damping_ratio_ci95_high", "damping_ratio_sd", "damping_ratio_cv", "damping_ratio_median",
+	"damping_ratio_geometric_mean", "damping_ratio_geometric_ci95_low", "damping_ratio_geometric_ci95_high",
+	"damping_ratio_bootstrap_ci95_low", "damping_ratio_bootstrap_ci95_high",
+	"frequency_hz_mean", "frequency_hz_ci95_low", "frequency_hz_ci95_high", "frequency_hz_sd", "frequency_hz_cv", "frequency_hz_median",
+	"outliers", "unmatched_in_revision"}
+
+func writeStatsCSV(w io.Writer, all []rpt.RevisionStats) error {
+	cw := csv.NewWriter(w)
+	cw.Write(statsCSVHeader)
+	for _, rs := range all {
+		for _, m := range rs.Modes {
+			d, f := m.Damping, m.Frequency
+			cw.Write([]string{rs.Prototype, rs.Revision, m.Label, m.Name, string(m.Source), strconv.Itoa(d.N),
+				csvNum(d.Mean), csvNum(d.MeanCI95[0]), csvNum(d.MeanCI95[1]), csvNum(d.SD), csvNum(d.CV), csvNum(d.Median),
+				csvNum(d.GeoMean), csvNum(d.GeoMeanCI[0]), csvNum(d.GeoMeanCI[1]), csvNum(d.BootstrapCI95[0]), csvNum(d.BootstrapCI95[1]),
+				csvNum(f.Mean), csvNum(f.MeanCI95[0]), csvNum(f.MeanCI95[1]), csvNum(f.SD), csvNum(f.CV), csvNum(f.Median),
+				strconv.Itoa(len(m.Outliers)), strconv.Itoa(len(rs.Unmatched))})
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
