@@ -16,7 +16,7 @@ func init() {
 }
 
 func runAnalyze(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("analyze", "[--json] [--channel NAME] [--force-channel NAME] [--window-tau SECONDS] FILE...", e.stderr)
+	fs := newFlags("analyze", "[--json] [--plot FILE.svg] [--channel NAME] [--force-channel NAME] [--window-tau SECONDS] FILE...", e.stderr)
 	asJSON := fs.Bool("json", false, "print one JSON object per file, one per line")
 	channel := fs.String("channel", "", "response channel to analyse (default: the first response channel)")
 	force := fs.String("force-channel", "", "force (hammer) channel (default: a channel named like force/hammer)")
@@ -24,6 +24,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	tau := fs.Float64("window-tau", 0, "time constant in seconds of an exponential window applied by the recorder (corrected for)")
 	sampleRate := fs.Float64("sample-rate", 0, "sample rate in Hz for files that carry none")
 	config := fs.String("config", "", "TOML configuration file for thresholds and channel settings (optional)")
+	plot := fs.String("plot", "", "write a plot of each hit as SVG (decay, envelope, fitted model, spectrum); with several files FILE-1.svg, FILE-2.svg, ... in the order given")
 	files, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -54,7 +55,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 
 	failed := 0
-	for _, f := range files {
+	for i, f := range files {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -71,6 +72,12 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			writeJSONLine(e.stdout, res)
 		} else {
 			printResult(e.stdout, res)
+		}
+		if *plot != "" {
+			if err := writeHitPlot(hitPlotPath(*plot, i, len(files)), f, opt, res); err != nil {
+				failed++
+				fmt.Fprintf(e.stderr, "ringlog analyze: %v\n", err)
+			}
 		}
 	}
 	if failed > 0 {

@@ -280,9 +280,11 @@ func (f *FolderConfig) fileMeta(path string) map[string]string {
 
 func defaultThresholds() check.Thresholds { return check.DefaultThresholds() }
 
-// labelModes gives each mode of res the label of the expected mode of the
-// prototype nearest in frequency within its tolerance (default 10 %).
-// Modes that match none keep an empty label; the statistics cluster them.
+// labelModes gives modes of res the labels of the expected modes of the
+// prototype: each expected mode labels the nearest mode within its
+// tolerance (default 10 %), each label at most once per hit and each mode
+// at most one label. Modes that match none keep an empty label; the
+// statistics cluster them.
 func (c *Config) labelModes(prototype string, res *pipeline.Result) {
 	if res == nil {
 		return
@@ -291,18 +293,24 @@ func (c *Config) labelModes(prototype string, res *pipeline.Result) {
 		if p.Name != prototype {
 			continue
 		}
-		for i := range res.Modes {
-			m := &res.Modes[i]
-			best := math.Inf(1)
-			for _, em := range p.Modes {
-				tol := em.Tolerance
-				if tol <= 0 {
-					tol = 0.1
+		taken := make([]bool, len(res.Modes))
+		for _, em := range p.Modes {
+			tol := em.Tolerance
+			if tol <= 0 {
+				tol = 0.1
+			}
+			best, bi := math.Inf(1), -1
+			for i, m := range res.Modes {
+				if taken[i] || m.Dropped {
+					continue
 				}
-				d := math.Abs(m.FrequencyHz-em.FrequencyHz) / em.FrequencyHz
-				if d <= tol && d < best {
-					best, m.Label = d, em.Label
+				if d := math.Abs(m.FrequencyHz-em.FrequencyHz) / em.FrequencyHz; d <= tol && d < best {
+					best, bi = d, i
 				}
+			}
+			if bi >= 0 {
+				taken[bi] = true
+				res.Modes[bi].Label = em.Label
 			}
 		}
 	}

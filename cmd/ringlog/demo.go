@@ -381,5 +381,5 @@ func demoSummary(ctx context.Context, e *env, store *db.DB, root, dbPath, cfgPat
 	fmt.Fprintf(e.stdout, "\ndatabase: %s\nconfig:   %s\n", dbPath, cfgPath)
 	fmt.Fprintf(e.stdout, "next:     ringlog history --db %s\n          ringlog watch --config %s   (drop your own files into the export folder)\n", dbPath, cfgPath)
 	fmt.Fprintln(e.stdout, "\nCaution: measured damping depends on amplitude, boundary conditions and temperature; over-estimating it makes a model unconservative. See README, 'Cautions'.")
-	return nil
+	return writeDemoReport(ctx, e, store, root, dbPath, cfgPath)
 }

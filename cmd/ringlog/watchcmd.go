@@ -178,8 +178,12 @@ func (m *Main) Run(ctx context.Context) error {
 	m.Log.Info().Str("database", cfg.Database).Int("folders", len(cfg.Folders)).Int("workers", eng.workers).
 		Dur("settle", cfg.Settle.Duration).Msg("ringlog daemon started")
 	m.once.Do(func() { close(m.started) })
+	reports := make(chan struct{}) // the daily report writer (dailyreport.go)
+	go func() { defer close(reports); scheduleDaily(wctx, cfg, m.store, m.Log) }()
 	err := eng.run(ctx, jobs)
 	<-watchDone
+	stopWatch()
+	<-reports
 	m.Log.Info().Msg("ringlog daemon stopped; work in hand finished")
 	if werr != nil && !errors.Is(werr, context.Canceled) {
 		return werr
