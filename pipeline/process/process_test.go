@@ -36,7 +36,7 @@ func TestRuleFiles(t *testing.T) {
 		{file: "short-decay-ok.csv", wantNot: []string{check.CodeShortDecay}},
 		{file: "several-modes-bad.csv", want: []string{check.CodeMixedModes}},
 		{file: "several-modes-ok.csv", wantNot: []string{check.CodeMixedModes}},
-		{file: "close-modes-bad.csv", want: []string{check.CodeBeatingModes}},
+		{file: "close-modes-bad.csv", want: []string{check.CodeBeatingModes}, wantNot: []string{check.CodeFrictionDecay}},
 		{file: "close-modes-ok.csv", wantNot: []string{check.CodeBeatingModes}},
 		{file: "non-viscous-bad.csv", want: []string{check.CodeFrictionDecay}},
 		{file: "no-decay-bad.csv", want: []string{check.CodeNoDecay}, verdicts: []pipeline.Verdict{pipeline.Rejected}},
