@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/floats"
+
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/modal"
 )
@@ -156,6 +158,11 @@ func groupShape(in Input, i int) (expRSS, linRSS, level float64) {
 	}
 	if n < 2 || env[0] <= 0 {
 		return expRSS, linRSS, 1
+	}
+	// Beating modes also send the group envelope to a null, but it rises
+	// again; a friction decay stays down once it has stopped.
+	if rest := env[n:]; len(rest) > 0 && floats.Max(rest) > 0.3*env[0] {
+		return nan, nan, 1
 	}
 	return expRSS, linRSS, env[n-1] / env[0]
 }
