@@ -17,13 +17,5 @@ func Data(name string, data []byte, opt Options) (*pipeline.Recording, error) {
 	}
 	br := bufio.NewReaderSize(bytes.NewReader(data), bufSize)
 	head := data[:min(len(data), sniffLen)]
-	switch Sniff(head, name) {
-	case FormatCSV:
-		return readCSV(br, name, opt, int64(len(data)))
-	case FormatWAV:
-		return readWAV(br, name, opt, int64(len(data)))
-	case FormatUFF58:
-		return UFF58(br, name, opt)
-	}
-	return nil, fileErr(name, ErrUnknownFormat, "unknown format: not a WAV (RIFF/WAVE), universal file (dataset 58) or delimited text file; first bytes %s", hexHead(head))
+	return dispatch(br, head, name, opt, int64(len(data)))
 }

@@ -184,6 +184,12 @@ func File(path string, opt Options) (*pipeline.Recording, error) {
 	if len(head) == 0 {
 		return nil, fileErr(path, nil, "empty file")
 	}
+	return dispatch(br, head, path, opt, size)
+}
+
+// dispatch reads br, whose first bytes are head, with the reader Sniff
+// chooses.
+func dispatch(br *bufio.Reader, head []byte, path string, opt Options, size int64) (*pipeline.Recording, error) {
 	switch Sniff(head, path) {
 	case FormatCSV:
 		return readCSV(br, path, opt, size)
