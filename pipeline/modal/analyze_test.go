@@ -387,3 +387,77 @@ func TestAnalyzeResponseOnly(t *testing.T) {
 		t.Errorf("noise-only force channel: trigger/onset %d/%d, response alone %d/%d", d2.Trigger, d2.Onset, d.Trigger, d.Onset)
 	}
 }
+
+// A steady hum (50 Hz, never decaying) under a hit is fitted with the
+// modes, so that it does not bias them, but it is not reported as a mode.
+func TestAnalyzeIgnoresSteadyHum(t *testing.T) {
+	modes := []synth.Mode{{FrequencyHz: 80, DampingRatio: 0.01, Amplitude: 1, Phase: 0.3}}
+	h := &synth.Hit{SampleRate: 2048, Duration: 3, PreTrigger: 0.2, Modes: modes,
+		NoiseSD: synth.NoiseForSNR(modes, 60), Seed: 6, PulseWidth: 0.002, PulsePeak: 50}
+	x := h.Response()
+	for i := range x {
+		x[i] += 0.05 * math.Sin(2*math.Pi*50*float64(i)/h.SampleRate)
+	}
+	d, err := Analyze(x, h.SampleRate, h.Force(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(d.Modes) != 1 {
+		t.Fatalf("%d modes, want the 80 Hz mode alone: %+v", len(d.Modes), d.Modes)
+	}
+	m := d.Modes[0]
+	bound := crbOf(h, modes[0], d.Onset)
+	if math.Abs(m.FrequencyHz-80) > 0.01 || math.Abs(m.DampingRatio-0.01) > 4*bound {
+		t.Errorf("mode %.4f Hz, zeta %.6f (CRB %.2g)", m.FrequencyHz, m.DampingRatio, bound)
+	}
+}
+
+// Odd records must not make Analyze panic or report non-finite numbers
+// (project rule: bad input gives a clear error or a result, never a
+// panic): an impulse, a step, a square wave, a random walk, a clipped sine,
+// a non-oscillating exponential, alternating samples at the Nyquist
+// frequency, a 64-sample decay, and a hit at the very end of the record.
+func TestAnalyzeOddRecords(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 5))
+	mk := func(n int, f func(i int) float64) []float64 {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = f(i) + 1e-3*r.NormFloat64()
+		}
+		return x
+	}
+	walk := 0.0
+	recs := map[string][]float64{
+		"impulse":     mk(4000, func(i int) float64 { return map[bool]float64{true: 1}[i == 1000] }),
+		"step":        mk(4000, func(i int) float64 { return map[bool]float64{true: 1}[i >= 1000] }),
+		"square":      mk(4000, func(i int) float64 { return math.Copysign(1, math.Sin(float64(i)/20)) }),
+		"random walk": mk(4000, func(int) float64 { walk += r.NormFloat64(); return walk }),
+		"clipped":     mk(4000, func(i int) float64 { return math.Max(-0.3, math.Min(0.3, math.Sin(float64(i)/7))) }),
+		"exponential": mk(4000, func(i int) float64 { return math.Exp(-float64(i) / 300) }),
+		"nyquist":     mk(4000, func(i int) float64 { return float64(1 - 2*(i%2)) }),
+		"short":       mk(64, func(i int) float64 { return math.Exp(-float64(i)/20) * math.Sin(float64(i)) }),
+		"late hit": mk(4000, func(i int) float64 {
+			if i < 3990 {
+				return 0
+			}
+			return math.Sin(float64(i-3990) / 2)
+		}),
+	}
+	for name, x := range recs {
+		for _, force := range [][]float64{nil, mk(len(x), func(i int) float64 { return map[bool]float64{true: 5}[i == len(x)/4] })} {
+			d, err := Analyze(x, 1000, force, Options{})
+			if err != nil {
+				t.Errorf("%s: %v", name, err)
+				continue
+			}
+			for _, m := range d.Modes {
+				for _, v := range []float64{m.FrequencyHz, m.DampingRatio, m.DampingRatioSD, m.DampingRatioCI[0], m.DampingRatioCI[1], m.Amplitude, m.EnergyShare} {
+					if math.IsNaN(v) || math.IsInf(v, 0) {
+						t.Errorf("%s: non-finite value in %+v", name, m)
+						break
+					}
+				}
+			}
+		}
+	}
+}

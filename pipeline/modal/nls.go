@@ -46,9 +46,10 @@ var ErrFitFailed = errors.New("least-squares fit failed")
 // with the analytic Jacobian; the normal equations are solved with gonum's
 // Cholesky factorisation.
 //
-// The fit runs first on the start of the record (about one time constant)
-// and then on longer spans (16 times longer each stage), so that a frequency that is
-// only roughly known does not let the phase slip over a long decay.
+// The fit runs first on the start of the record (about one time constant
+// of the fastest decaying component, at least 2000 samples) and then on
+// spans 16 times longer each stage, so that a frequency that is only
+// roughly known does not let the phase slip over a long decay.
 //
 // Under white Gaussian noise this is the maximum-likelihood estimate; the
 // covariance s^2 (J^T J)^-1 (Fit.Cov) is its asymptotic covariance. y
@@ -74,12 +75,7 @@ func FitDecay(y []float64, fs float64, start []Component) (*Fit, error) {
 		theta[4*i+2] = c.Sigma
 		theta[4*i+3] = c.Omega
 	}
-	w := &nlsWork{y: y, dt: 1 / fs, k: k, p: p,
-		jtj: mat.NewSymDense(p, nil), jtr: make([]float64, p), g: make([]float64, p),
-		cos: make([]float64, k), sin: make([]float64, k)}
-
-	// stages: about one time constant of the slowest component (at least
-	// 2000 samples), then 16 times longer each stage
+	w := &nlsWork{y: y, dt: 1 / fs, k: k, p: p, jtj: mat.NewSymDense(p, nil), jtr: make([]float64, p)}
 	span := n
 	for _, c := range start {
 		if c.Sigma > 0 {
@@ -172,16 +168,15 @@ func (f *Fit) Quantile975() float64 {
 
 // nlsWork holds the buffers of one fit.
 type nlsWork struct {
-	y        []float64
-	dt       float64
-	k, p     int
-	jtj      *mat.SymDense
-	jtr, g   []float64
-	cos, sin []float64
-	ends     []int     // per component: samples beyond which it is negligible
-	gt, rb   []float64 // block of Jacobian rows (parameter-major) and residuals
-	sb, tb   []float64 // block products
-	order    []int     // components by decreasing end
+	y      []float64
+	dt     float64
+	k, p   int
+	jtj    *mat.SymDense
+	jtr    []float64
+	ends   []int     // per component: samples beyond which it is negligible
+	gt, rb []float64 // block of Jacobian rows (parameter-major) and residuals
+	sb, tb []float64 // block products
+	order  []int     // components by decreasing end
 }
 
 // activeEnds orders the components by how long they stay above 1e-9 of

@@ -470,15 +470,17 @@ func (t Table) Print(w io.Writer, cfg Config) error {
 	}
 	pw := &errWriter{w: w}
 	pw.printf("Damping-ratio accuracy: synthetic one-mode hits (pipeline/synth), modal.Analyze %s, %d trials per cell, seed %d\n", path, cfg.Trials, cfg.Seed)
-	pw.printf("Targets: |bias| < %.0f %%, sd <= %.2f x Cramer-Rao bound, 95 %% interval coverage %.0f-%.0f %%\n\n", TargetBiasPct, TargetSDRatio, TargetCoverageLo, TargetCoverageHi)
-	pw.printf("%8s %7s %5s %8s %7s %9s %8s %10s %10s %7s %8s  %s\n", "f [Hz]", "zeta", "SNR", "fs [Hz]", "found", "bias [%]", "+/- se", "sd", "CRB", "sd/CRB", "cover %", "result")
+	pw.printf("Targets: |bias| < %.0f %%, sd <= %.2f x Cramer-Rao bound, 95 %% interval coverage %.0f-%.0f %%\n", TargetBiasPct, TargetSDRatio, TargetCoverageLo, TargetCoverageHi)
+	pw.printf("(+/- se: standard error of the bias over the trials, and the binomial standard error of a 95 %% coverage)\n\n")
+	pw.printf("%8s %7s %5s %8s %7s %9s %8s %10s %10s %7s %8s %7s  %s\n", "f [Hz]", "zeta", "SNR", "fs [Hz]", "found", "bias [%]", "+/- se", "sd", "CRB", "sd/CRB", "cover %", "+/- se", "result")
 	for _, r := range t.Rows {
 		res := "pass"
 		if !r.Pass {
 			res = "FAIL"
 		}
-		pw.printf("%8g %7.4f %5g %8g %3d/%-3d %9.3f %8.3f %10.3g %10.3g %7.3f %8.1f  %s\n",
-			r.FrequencyHz, r.Zeta, r.SNRdB, r.SampleRate, r.Found, r.Trials, r.BiasPct, r.BiasSEPct, r.SD, r.CRB, r.SDRatio, r.CoveragePct, res)
+		coverSE := 100 * math.Sqrt(0.95*0.05/float64(max(r.Found, 1)))
+		pw.printf("%8g %7.4f %5g %8g %3d/%-3d %9.3f %8.3f %10.3g %10.3g %7.3f %8.1f %7.1f  %s\n",
+			r.FrequencyHz, r.Zeta, r.SNRdB, r.SampleRate, r.Found, r.Trials, r.BiasPct, r.BiasSEPct, r.SD, r.CRB, r.SDRatio, r.CoveragePct, coverSE, res)
 	}
 	if len(t.TwoMode) > 0 {
 		pw.printf("\nTwo modes a factor 3.2 apart, equal amplitudes; target: both zetas within %.0f %% in at least %.0f %% of the trials\n\n", TargetTwoModePct, TargetTwoModeRate)
