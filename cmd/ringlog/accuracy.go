@@ -38,6 +38,12 @@ func runAccuracy(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	if !tab.Pass {
+		if *quick {
+			// 40 trials leave a standard error of about 1 % on the bias at
+			// 20 dB: a quick run shows the method, not the verdict.
+			fmt.Fprintln(e.stdout, "quick run: too few trials to judge a 1 % bias at 20 dB (see the +/- se column); run without --quick for the verdict")
+			return nil
+		}
 		return fmt.Errorf("some cells miss their target (marked above)")
 	}
 	return nil
