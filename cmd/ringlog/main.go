@@ -1,8 +1,3 @@
-// Command ringlog checks impact-hammer test files, estimates frequency and
-// damping of every mode with an uncertainty, and keeps a history of them.
-//
-// Each subcommand lives in a file of its own; errors map to exit codes in
-// errors.go.
 package main
 
 import (
