@@ -80,11 +80,12 @@ type FolderConfig struct {
 
 // ChannelConfig names a channel's role and calibration.
 type ChannelConfig struct {
-	Name        string  `toml:"name"`
-	Role        string  `toml:"role"`        // "force" or "response"
-	Sensitivity float64 `toml:"sensitivity"` // raw file units per engineering unit; 0 = 1
-	Unit        string  `toml:"unit"`
-	FullScale   float64 `toml:"full_scale"` // measuring range in engineering units; 0 = unknown
+	Name        string   `toml:"name"`
+	Role        string   `toml:"role"`        // "force" or "response"
+	Sensitivity float64  `toml:"sensitivity"` // raw file units per engineering unit; 0 = 1
+	Formats     []string `toml:"formats"`     // formats the sensitivity applies to ("wav", "csv", "uff"); empty = all
+	Unit        string   `toml:"unit"`
+	FullScale   float64  `toml:"full_scale"` // measuring range in engineering units; 0 = unknown
 }
 
 // PrototypeConfig lists the modes expected on a prototype.
@@ -180,6 +181,11 @@ func (c *Config) validate() error {
 		if ch.Sensitivity < 0 {
 			return fmt.Errorf("config %s: channel %q: sensitivity must be positive", c.path, ch.Name)
 		}
+		for _, f := range ch.Formats {
+			if f != "wav" && f != "csv" && f != "uff" {
+				return fmt.Errorf("config %s: channel %q: formats: %q is not one of wav, csv, uff", c.path, ch.Name, f)
+			}
+		}
 	}
 	for _, p := range c.Prototypes {
 		for _, m := range p.Modes {
@@ -223,10 +229,10 @@ func (c *Config) processOptions(f *FolderConfig) process.Options {
 	opt.Modal.FMaxHz = c.Analysis.FMaxHz
 	for _, ch := range c.Channels {
 		if ch.Sensitivity > 0 {
-			if opt.Read.Sensitivity == nil {
-				opt.Read.Sensitivity = map[string]float64{}
+			if opt.Calibration == nil {
+				opt.Calibration = map[string]process.Calibration{}
 			}
-			opt.Read.Sensitivity[ch.Name] = ch.Sensitivity
+			opt.Calibration[ch.Name] = process.Calibration{Sensitivity: ch.Sensitivity, Formats: ch.Formats}
 		}
 		if ch.FullScale > 0 {
 			if opt.FullScale == nil {

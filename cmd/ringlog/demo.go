@@ -195,12 +195,14 @@ name = "hammer"
 role = "force"
 unit = "N"
 sensitivity = %g   # WAV full scale (1.0) corresponds to %g N
+formats = ["wav"]   # the CSV and UFF files are already in N
 
 [[channel]]
 name = "accel"
 role = "response"
 unit = "m/s^2"
 sensitivity = %g
+formats = ["wav"]
 
 [[folder]]
 path = %q

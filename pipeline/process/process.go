@@ -21,6 +21,10 @@ type Options struct {
 	NoForce      bool    // ignore any force channel
 	WindowTauS   float64 // exponential window time constant; 0 = from file metadata, or none
 	Read         read.Options
+	// Calibration divides, per channel name, the raw values of files of
+	// the listed formats (raw file units per engineering unit); applied
+	// before FullScale.
+	Calibration map[string]Calibration
 	// FullScale and Units override, per channel name, what the file says
 	// (WAV files carry neither).
 	FullScale  map[string]float64
@@ -71,6 +75,12 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 	}
 	for i := range rec.Channels {
 		c := &rec.Channels[i]
+		if cal, ok := opt.Calibration[c.Name]; ok && cal.Sensitivity > 0 && cal.applies(rec.Format) {
+			for k, v := range c.Samples {
+				c.Samples[k] = v / cal.Sensitivity
+			}
+			c.FullScale /= cal.Sensitivity
+		}
 		if v, ok := opt.FullScale[c.Name]; ok && v > 0 {
 			c.FullScale = v
 		}
@@ -118,6 +128,24 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 	res.SortModes()
 	res.Decide()
 	return res, nil
+}
+
+// Calibration converts a channel's raw file values to engineering units.
+type Calibration struct {
+	Sensitivity float64  // raw file units per engineering unit, > 0
+	Formats     []string // "wav", "csv", "uff"; empty: every format
+}
+
+func (c Calibration) applies(format string) bool {
+	if len(c.Formats) == 0 {
+		return true
+	}
+	for _, f := range c.Formats {
+		if f == format || (f == "uff" && strings.HasPrefix(format, "uff")) {
+			return true
+		}
+	}
+	return false
 }
 
 func channels(rec *pipeline.Recording, opt Options) (resp, force *pipeline.Channel, err error) {

@@ -120,3 +120,31 @@ func TestChannelErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestCalibrationFormats: a channel sensitivity applies to the formats it
+// lists only (a CSV export already in engineering units is not divided
+// again), and to every format when none are listed. The expected values
+// are the generator's 60 Hz, 20 m/s^2 mode (testdata/rules/README.md)
+// divided by the sensitivity or not.
+func TestCalibrationFormats(t *testing.T) {
+	path := filepath.Join("..", "..", "testdata", "rules", "good-ok.csv")
+	amp := func(cal map[string]process.Calibration) float64 {
+		opt := process.Defaults()
+		opt.Calibration = cal
+		res, err := process.File(context.Background(), path, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(res.Modes) == 0 {
+			t.Fatal("no mode")
+		}
+		return res.Modes[0].Amplitude
+	}
+	plain := amp(nil)
+	if got := amp(map[string]process.Calibration{"accel": {Sensitivity: 2, Formats: []string{"wav"}}}); got != plain {
+		t.Errorf("a WAV-only sensitivity changed a CSV file: amplitude %v, want %v", got, plain)
+	}
+	if got := amp(map[string]process.Calibration{"accel": {Sensitivity: 2}}); math.Abs(got-plain/2) > 1e-9*plain {
+		t.Errorf("sensitivity 2 for all formats: amplitude %v, want %v", got, plain/2)
+	}
+}
