@@ -150,6 +150,11 @@ func (m *Main) Run(ctx context.Context) error {
 	cfg := m.Config
 	eng := newEngine(cfg, m.store, m.Log)
 	eng.recorded = func(o outcome, rec db.Outcome, err error) {
+		if err != nil {
+			// Not stored (database full, disk error): let the next scan
+			// hand the file out again rather than lose it.
+			m.watcher.Forget(o.path)
+		}
 		if m.Recorded != nil {
 			m.Recorded(o, rec, err)
 		}
