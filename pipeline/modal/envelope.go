@@ -13,15 +13,6 @@ import (
 // the decay stays above the noise for too few cycles to fit.
 var ErrFewCycles = errors.New("too few cycles above the noise")
 
-// pow2Ceil returns the smallest power of two >= n (1 for n <= 1).
-func pow2Ceil(n int) int {
-	p := 1
-	for p < n {
-		p <<= 1
-	}
-	return p
-}
-
 // spectrumWork is reusable FFT state for one power-of-two length. The
 // gonum transforms keep scratch inside, so a workspace serves one goroutine
 // at a time; workspaces are pooled per length.
@@ -88,7 +79,7 @@ func Hilbert(dst []float64, x []float64) []float64 {
 	if n == 0 {
 		return dst
 	}
-	nfft := pow2Ceil(n)
+	nfft := ceilPow2(n)
 	w := getSpectrumWork(nfft)
 	defer putSpectrumWork(w)
 	w.transform(x)

@@ -53,7 +53,7 @@ func FRF(force, response []float64, fs float64, padTo int) (freqs []float64, h [
 	if !(fs > 0) || math.IsInf(fs, 0) {
 		return nil, nil, fmt.Errorf("modal: FRF: sample rate %g Hz is not a positive number", fs)
 	}
-	nfft := pow2Ceil(max(padTo, len(force)))
+	nfft := ceilPow2(max(padTo, len(force)))
 	w := getSpectrumWork(nfft)
 	defer putSpectrumWork(w)
 	nb := nfft/2 + 1
@@ -91,7 +91,7 @@ func FRF(force, response []float64, fs float64, padTo int) (freqs []float64, h [
 // 2 zeta^2); the tests measure both phases at zeta = 0.5, 2 and 5 %.
 // An empty x or a non-positive fs gives zero magnitudes.
 func Spectrum(x []float64, fs float64, padTo int) (freqs, mag []float64) {
-	nfft := pow2Ceil(max(padTo, len(x)))
+	nfft := ceilPow2(max(padTo, len(x)))
 	nb := nfft/2 + 1
 	freqs = make([]float64, nb)
 	mag = make([]float64, nb)
