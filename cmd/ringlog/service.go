@@ -108,7 +108,7 @@ func runService(ctx context.Context, e *env, args []string) error {
 	case "status":
 		st, err := s.Status()
 		if err != nil {
-			return fmt.Errorf("service %s status: %w", *name, err)
+			return fmt.Errorf("service %s status (%s): %w; is the service manager running and the service installed?", *name, service.ChosenSystem(), err)
 		}
 		fmt.Fprintf(e.stdout, "service %s: %s\n", *name, map[service.Status]string{
 			service.StatusRunning: "running", service.StatusStopped: "stopped", service.StatusUnknown: "unknown"}[st])
