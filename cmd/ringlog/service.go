@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"os"
 	"path/filepath"
 	"runtime"
 	"sync"
@@ -130,7 +131,18 @@ func (p *serviceProgram) Start(s service.Service) error {
 	ctx, cancel := context.WithCancel(context.Background())
 	p.cancel = cancel
 	p.done = make(chan error, 1)
-	go func() { p.done <- p.m.Run(ctx) }()
+	go func() {
+		err := p.m.Run(ctx)
+		if err != nil && ctx.Err() == nil {
+			// The daemon stopped on its own: exit non-zero so that the
+			// service manager restarts it (Restart=on-failure, recovery
+			// action on Windows).
+			p.m.Log.Error().Err(err).Msg("daemon stopped; exiting for the service manager to restart it")
+			p.m.Close()
+			os.Exit(exitFailure)
+		}
+		p.done <- err
+	}()
 	return nil
 }
 
