@@ -6,6 +6,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -85,25 +86,13 @@ func writeDaily(ctx context.Context, store page.Source, opt page.DailyOptions, p
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return page.DailySummary{}, fmt.Errorf("report folder: %w", err)
 	}
-	tmp, err := os.CreateTemp(dir, ".ringlog-report-*.html")
-	if err != nil {
-		return page.DailySummary{}, fmt.Errorf("writing %s: %w", path, err)
-	}
-	sum, err := page.Daily(ctx, tmp, store, opt)
-	if cerr := tmp.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(tmp.Name(), 0o644)
-	}
-	if err == nil {
-		err = os.Rename(tmp.Name(), path)
-	}
-	if err != nil {
-		os.Remove(tmp.Name())
-		return sum, fmt.Errorf("writing %s: %w", path, err)
-	}
-	return sum, nil
+	var sum page.DailySummary
+	err := writeAtomic(path, func(w io.Writer) error {
+		var err error
+		sum, err = page.Daily(ctx, w, store, opt)
+		return err
+	})
+	return sum, err
 }
 
 // dailyClock is what the scheduler needs of time; tests replace it.

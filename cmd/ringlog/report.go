@@ -195,12 +195,20 @@ func fileSafe(s string) string {
 // writeFileAtomic writes data to path through a temporary file in the
 // same folder, so the path never holds a partial page.
 func writeFileAtomic(path string, data []byte) error {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, ".ringlog-report-*.html")
+	return writeAtomic(path, func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	})
+}
+
+// writeAtomic lets fill write into a temporary file in path's folder and
+// renames it to path once complete.
+func writeAtomic(path string, fill func(w io.Writer) error) error {
+	tmp, err := os.CreateTemp(filepath.Dir(path), ".ringlog-report-*.tmp")
 	if err != nil {
 		return fmt.Errorf("writing %s: %w", path, err)
 	}
-	_, err = tmp.Write(data)
+	err = fill(tmp)
 	if cerr := tmp.Close(); err == nil {
 		err = cerr
 	}
