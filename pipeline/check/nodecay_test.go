@@ -1,3 +1,7 @@
+// Check values in this file: the inputs are hand-built decays; the limits
+// are the default thresholds of thresholds.go, each marked there as common
+// practice or our own choice; messages quote the numbers they were given.
+
 package check
 
 import (
