@@ -52,12 +52,11 @@ func dailyOptions(cfg *Config, day time.Time, dbPath string) page.DailyOptions {
 		return out
 	}
 	opt.Read = func(h db.Hit) read.Options {
-		po := cfg.processOptions(folderOf(cfg, h.Path))
-		ro := po.Read
-		if po.ForceChannel != "" {
-			ro.ForceChannel = po.ForceChannel
+		format := ""
+		if h.Result != nil {
+			format = h.Result.Format
 		}
-		return ro
+		return cfg.processOptions(folderOf(cfg, h.Path)).ReadOptions(format)
 	}
 	return opt
 }

@@ -30,11 +30,7 @@ func hitPlotPath(plot string, i, n int) string {
 // page.WriteHitSVG): the record with the fitted envelope and model, the
 // first cycles, the spectrum with the modes marked.
 func writeHitPlot(path, file string, opt process.Options, res *pipeline.Result) error {
-	ro := opt.Read
-	if opt.ForceChannel != "" {
-		ro.ForceChannel = opt.ForceChannel
-	}
-	rec, err := read.File(file, ro)
+	rec, err := read.File(file, opt.ReadOptions(res.Format))
 	if err != nil {
 		return err
 	}

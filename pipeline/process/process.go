@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"os"
 	"strconv"
 	"strings"
 
@@ -22,8 +23,8 @@ type Options struct {
 	WindowTauS   float64 // exponential window time constant; 0 = from file metadata, or none
 	Read         read.Options
 	// Calibration divides, per channel name, the raw values of files of
-	// the listed formats (raw file units per engineering unit); applied
-	// before FullScale.
+	// the listed formats (raw file units per engineering unit), through
+	// the reader's sensitivities; FullScale below is in engineering units.
 	Calibration map[string]Calibration
 	// FullScale and Units override, per channel name, what the file says
 	// (WAV files carry neither).
@@ -42,30 +43,42 @@ func Defaults() Options {
 // not be read or has no usable channel; a spoiled hit is not an error but a
 // Result with verdict "rejected" and its reasons.
 func File(ctx context.Context, path string, opt Options) (*pipeline.Result, error) {
-	ro := opt.Read
-	if opt.ForceChannel != "" {
-		ro.ForceChannel = opt.ForceChannel
-	}
-	rec, err := read.File(path, ro)
+	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, err
+		return nil, &read.Error{File: path, Offset: -1, Problem: "cannot open", Err: err}
 	}
-	return Recording(ctx, rec, opt)
+	return Data(ctx, path, data, opt)
 }
 
 // Data analyses a file already read into memory (the daemon reads each
 // file once, hashes the bytes and analyses the same bytes). name is the
 // file's path, used for format detection and in errors.
 func Data(ctx context.Context, name string, data []byte, opt Options) (*pipeline.Result, error) {
-	ro := opt.Read
-	if opt.ForceChannel != "" {
-		ro.ForceChannel = opt.ForceChannel
-	}
-	rec, err := read.Data(name, data, ro)
+	rec, err := read.Data(name, data, opt.ReadOptions(read.Sniff(data[:min(len(data), 1024)], name)))
 	if err != nil {
 		return nil, err
 	}
 	return Recording(ctx, rec, opt)
+}
+
+// ReadOptions are the reader options for a file of the given format
+// (Recording.Format or read.Sniff): the force channel, and the
+// calibrations that apply to that format. Whoever re-reads a hit's file
+// (plots, reports) reads it with these, as the analysis did.
+func (opt Options) ReadOptions(format string) read.Options {
+	ro := opt.Read
+	if opt.ForceChannel != "" {
+		ro.ForceChannel = opt.ForceChannel
+	}
+	for name, cal := range opt.Calibration {
+		if cal.Sensitivity > 0 && cal.applies(format) {
+			if ro.Sensitivity == nil {
+				ro.Sensitivity = map[string]float64{}
+			}
+			ro.Sensitivity[name] = cal.Sensitivity
+		}
+	}
+	return ro
 }
 
 // Recording analyses a recording already in memory.
@@ -75,12 +88,6 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 	}
 	for i := range rec.Channels {
 		c := &rec.Channels[i]
-		if cal, ok := opt.Calibration[c.Name]; ok && cal.Sensitivity > 0 && cal.applies(rec.Format) {
-			for k, v := range c.Samples {
-				c.Samples[k] = v / cal.Sensitivity
-			}
-			c.FullScale /= cal.Sensitivity
-		}
 		if v, ok := opt.FullScale[c.Name]; ok && v > 0 {
 			c.FullScale = v
 		}
