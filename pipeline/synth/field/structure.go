@@ -103,7 +103,7 @@ type oscillator struct {
 	recorded bool
 }
 
-// accel returns q'' for the state (q, v) at time t.
+// accel returns q” for the state (q, v) at time t.
 func (o *oscillator) accel(q, v, t float64) float64 {
 	a := o.g*o.force(t) - o.c*v - o.w*o.w*q
 	if o.c3 != 0 {
