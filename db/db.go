@@ -98,6 +98,84 @@ func openWith(ctx context.Context, path string, migrations fs.FS) (*DB, error) {
 	return d, nil
 }
 
+// ErrReadOnly is returned by a write on a history opened with OpenReadOnly.
+var ErrReadOnly = errors.New("the history was opened read-only")
+
+// OpenReadOnly opens an existing history for queries only: it never
+// creates the file, never migrates it and never writes to it, so it works
+// on a read-only copy and beside a running daemon. A missing file, a file
+// that is not a ringlog history (an empty file included) and a history
+// whose schema differs from this build's are errors that say what to do.
+func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
+	if path == "" {
+		return nil, errors.New("database: no path given")
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, fmt.Errorf("database %s: %w", path, err)
+	}
+	fi, err := os.Stat(abs)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		return nil, fmt.Errorf("database %s does not exist (run 'ringlog ingest' or 'ringlog watch' first): %w", abs, fs.ErrNotExist)
+	case err != nil:
+		return nil, fmt.Errorf("database %s: cannot open: %w", abs, unwrapPath(err))
+	case fi.IsDir():
+		return nil, fmt.Errorf("database %s: cannot open: it is a folder, not a file", abs)
+	case !fi.Mode().IsRegular():
+		return nil, fmt.Errorf("database %s: cannot open: it is not a regular file (%s)", abs, fi.Mode().Type())
+	case fi.Size() == 0:
+		return nil, fmt.Errorf("database %s: empty file, not a ringlog history (run 'ringlog ingest' or 'ringlog watch' to make one)", abs)
+	}
+	open := func(immutable bool) (*sql.DB, int, error) {
+		r, err := sql.Open("sqlite", dsnReadOnly(abs, immutable))
+		if err != nil {
+			return nil, 0, err
+		}
+		r.SetMaxOpenConns(readPoolSize)
+		r.SetMaxIdleConns(readPoolSize)
+		var v int
+		if err := r.QueryRowContext(ctx, "PRAGMA user_version").Scan(&v); err != nil {
+			r.Close()
+			return nil, 0, err
+		}
+		return r, v, nil
+	}
+	r, have, err := open(false)
+	if err != nil && !errors.Is(ctx.Err(), context.Canceled) && strings.Contains(err.Error(), "unable to open") {
+		// A WAL history on read-only media without its -shm file: SQLite
+		// can read it only as immutable (nobody can be writing it there).
+		r, have, err = open(true)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("database %s: cannot open for reading: %w", abs, describe(err))
+	}
+	latest := SchemaVersion()
+	switch {
+	case have == 0:
+		r.Close()
+		return nil, fmt.Errorf("database %s: not a ringlog history (no schema); run 'ringlog ingest' or 'ringlog watch' to make one", abs)
+	case have > latest:
+		r.Close()
+		return nil, fmt.Errorf("database %s: schema version %d is newer than this ringlog knows (%d): use a newer ringlog", abs, have, latest)
+	case have < latest:
+		r.Close()
+		return nil, fmt.Errorf("database %s: schema version %d is older than this ringlog's (%d); a read-only command does not upgrade it: "+
+			"run 'ringlog watch' or 'ringlog ingest' on it once (a writable copy of it if this one is read-only)", abs, have, latest)
+	}
+	return &DB{path: abs, r: r}, nil
+}
+
+// dsnReadOnly is the data source name of a read-only connection: no
+// create, no journal-mode change, queries only.
+func dsnReadOnly(abs string, immutable bool) string {
+	s := dsn(abs, true) + "&mode=ro"
+	if immutable {
+		s += "&immutable=1"
+	}
+	return s
+}
+
 // dsn builds the modernc.org/sqlite data source name for the writer or the
 // readers. The path is given as a file: URI so that any character in it
 // survives.
@@ -238,6 +316,9 @@ func (db *DB) IntegrityCheck(ctx context.Context) (string, error) {
 
 // write runs fn in one immediate transaction on the writer connection.
 func (db *DB) write(ctx context.Context, what string, fn func(tx *sql.Tx) error) error {
+	if db.w == nil {
+		return fmt.Errorf("database %s: %s: %w", db.path, what, ErrReadOnly)
+	}
 	tx, err := db.w.BeginTx(ctx, nil)
 	if err != nil {
 		return fmt.Errorf("database %s: %s: begin: %w", db.path, what, describe(err))

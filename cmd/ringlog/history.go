@@ -62,9 +62,15 @@ func (f *filterFlags) filter() (db.Filter, error) {
 	return out, nil
 }
 
-// openExisting opens a database that must already exist (queries never
-// create one by accident).
+// openExisting opens a database that must already exist, read-only:
+// queries never create, migrate or write one.
 func openExisting(ctx context.Context, path string) (*db.DB, error) {
+	return db.OpenReadOnly(ctx, path)
+}
+
+// openExistingWritable opens a database that must already exist for a
+// command that writes to it (reanalyze, exclude).
+func openExistingWritable(ctx context.Context, path string) (*db.DB, error) {
 	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("database %s does not exist (run 'ringlog ingest' or 'ringlog watch' first)", path)
 	}

@@ -41,7 +41,7 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 	if path == "" {
 		return usagef("--db PATH is required")
 	}
-	store, err := openExisting(ctx, path)
+	store, err := openExistingWritable(ctx, path)
 	if err != nil {
 		return err
 	}
