@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"strings"
@@ -59,7 +60,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		res, err := process.File(ctx, f, opt)
+		res, err := analyseFile(ctx, f, opt)
 		if err != nil {
 			failed++
 			fmt.Fprintf(e.stderr, "ringlog analyze: %v\n", err)
@@ -69,7 +70,15 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			continue
 		}
 		if *asJSON {
-			writeJSONLine(e.stdout, res)
+			b, err := json.Marshal(res)
+			if err != nil { // checkFinite missed a field: still an error naming the file
+				failed++
+				err = fmt.Errorf("%s: %v", f, err)
+				fmt.Fprintf(e.stderr, "ringlog analyze: %v\n", err)
+				writeJSONLine(e.stdout, map[string]string{"file": f, "error": err.Error()})
+				continue
+			}
+			e.stdout.Write(append(b, '\n'))
 		} else {
 			printResult(e.stdout, res)
 		}
@@ -86,12 +95,55 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	return nil
 }
 
+// writeJSONLine writes v as one line of JSON. Should v hold a value JSON
+// cannot carry, it writes an error object instead, with the "file" key
+// every error object has (null when v names no file).
 func writeJSONLine(w io.Writer, v any) {
 	b, err := json.Marshal(v)
 	if err != nil {
-		b, _ = json.Marshal(map[string]string{"error": err.Error()})
+		var file any
+		switch x := v.(type) {
+		case map[string]any:
+			file = x["file"]
+		case map[string]string:
+			file = x["file"]
+		}
+		b, _ = json.Marshal(map[string]any{"file": file, "error": err.Error()})
 	}
 	w.Write(append(b, '\n'))
+}
+
+// analyseFile is process.File that never panics and never returns a
+// result with a value that is not finite: both become an error naming
+// the file.
+func analyseFile(ctx context.Context, path string, opt process.Options) (res *pipeline.Result, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			res, err = nil, fmt.Errorf("%s: internal error while analysing: %v", path, p)
+		}
+	}()
+	res, err = process.File(ctx, path, opt)
+	if err == nil {
+		err = checkFinite(path, res)
+	}
+	if err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// checkFinite returns an error naming the file when the result holds a
+// number that is NaN or infinite (it could be neither stored nor printed
+// as JSON).
+func checkFinite(path string, res *pipeline.Result) error {
+	if _, err := json.Marshal(res); err != nil {
+		var uv *json.UnsupportedValueError
+		if errors.As(err, &uv) {
+			return fmt.Errorf("%s: the analysis gave a value that is not a finite number (%s); the file's sample rate, calibration or values are out of range", path, uv.Str)
+		}
+		return fmt.Errorf("%s: %v", path, err)
+	}
+	return nil
 }
 
 // printResult writes the human-readable view of one hit.

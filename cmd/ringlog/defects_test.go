@@ -4,10 +4,18 @@ package main
 // attacker would: each failed before its fix.
 
 import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/read"
 )
 
 // TestQueryCommandsNeverCreateADatabase: read-only commands open the
@@ -34,5 +42,89 @@ func TestQueryCommandsNeverCreateADatabase(t *testing.T) {
 		if fileExists(missing) {
 			t.Fatalf("ringlog %s created %s", strings.Join(args, " "), missing)
 		}
+	}
+}
+
+// TestAnalyzeAnyMetadataValue: no metadata value makes analyze panic or
+// print an error object without "file"; a value that makes the file
+// unusable is an error naming it (exit 1). "# sample_rate: 4.9e-324"
+// used to panic in the spectral peak search.
+func TestAnalyzeAnyMetadataValue(t *testing.T) {
+	var body bytes.Buffer
+	if err := read.WriteCSV(&body, hitRecording(3, 2048, 0.25), read.WriteOptions{Digits: 6, NoSampleRate: true}); err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	values := []string{"4.9e-324", "1e-320", "2.2250738585072014e-308", "1e-300", "1e308", "-1e308", "1.7976931348623157e308",
+		"0", "-0", "NaN", "Inf", "-Inf", "1e-9", "", "x", "2048 kHz", strings.Repeat("9", 400)}
+	keys := []string{"sample_rate", "dt", "full_scale", "hit_time", "prototype", "window_tau"}
+	n := 0
+	for _, k := range keys {
+		for _, v := range values {
+			n++
+			head := "# " + k + ": " + v + "\n"
+			if k != "sample_rate" && k != "dt" {
+				head += "# sample_rate: 2048\n"
+			}
+			f := filepath.Join(dir, fmt.Sprintf("m%03d.csv", n))
+			writeFile(t, f, append([]byte(head), body.Bytes()...))
+			var o, e bytes.Buffer
+			code := run(context.Background(), &env{stdout: &o, stderr: &e, stdin: strings.NewReader("")}, []string{"analyze", "--json", f})
+			if code != exitOK && code != exitFailure {
+				t.Errorf("%s = %q: exit %d\n%s", k, v, code, e.String())
+			}
+			var obj map[string]any
+			if err := json.Unmarshal(o.Bytes(), &obj); err != nil {
+				t.Errorf("%s = %q: output is not one JSON object: %v: %q", k, v, err, o.String())
+				continue
+			}
+			if obj["file"] != f {
+				t.Errorf("%s = %q: JSON \"file\" = %v, want %s", k, v, obj["file"], f)
+			}
+			if _, isErr := obj["error"]; isErr != (code == exitFailure) {
+				t.Errorf("%s = %q: exit %d but error object %v", k, v, code, isErr)
+			}
+		}
+	}
+}
+
+// TestAnalyzeNonFiniteIsAnError: a UFF file whose abscissa step makes the
+// duration infinite printed {"error":"json: unsupported value: +Inf"}
+// without "file" and exited 0.
+func TestAnalyzeNonFiniteIsAnError(t *testing.T) {
+	src, err := os.ReadFile(filepath.Join(moduleRoot, "testdata", "read", "decay-ascii.uff"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := filepath.Join(t.TempDir(), "step.uff")
+	writeFile(t, f, bytes.ReplaceAll(src, []byte("4.88281E-04"), []byte("1.0E+306")))
+	stdout, stderr, code := ringlog(t, "analyze", "--json", f)
+	if code != exitFailure {
+		t.Errorf("exit %d, want %d", code, exitFailure)
+	}
+	var obj map[string]any
+	if err := json.Unmarshal([]byte(stdout), &obj); err != nil || obj["file"] != f || obj["error"] == nil {
+		t.Errorf("JSON error object without the file: %q (%v)", stdout, err)
+	}
+	if !strings.Contains(stderr, f) {
+		t.Errorf("stderr does not name the file: %q", stderr)
+	}
+}
+
+// TestAnalyzeResultCheckedFinite: checkFinite finds a NaN or an infinity
+// anywhere in a result, which could be neither stored nor printed.
+func TestAnalyzeResultCheckedFinite(t *testing.T) {
+	res := &pipeline.Result{File: "a.csv", SampleRate: 2048, DurationS: math.Inf(1)}
+	if err := checkFinite("a.csv", res); err == nil || !strings.HasPrefix(err.Error(), "a.csv: ") {
+		t.Errorf("infinite duration: err = %v", err)
+	}
+	res.DurationS = 1
+	res.Modes = []pipeline.Mode{{FrequencyHz: 10, DampingRatio: math.NaN()}}
+	if err := checkFinite("a.csv", res); err == nil {
+		t.Error("NaN damping ratio passed")
+	}
+	res.Modes[0].DampingRatio = 0.01
+	if err := checkFinite("a.csv", res); err != nil {
+		t.Errorf("finite result: %v", err)
 	}
 }

@@ -17,6 +17,7 @@ import (
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/process"
+	"github.com/ringlog/ringlog/pipeline/read"
 )
 
 // job is one file to take through the pipeline.
@@ -79,6 +80,7 @@ func (e *engine) run(ctx context.Context, jobs <-chan job) error {
 	wctx := context.WithoutCancel(ctx)
 	var firstErr error
 	for o := range outs {
+		o.err = clipErr(o.err)
 		rec, err := e.store1(wctx, o)
 		if err != nil {
 			e.log.Error().Err(err).Str("file", o.path).Msg("could not store result")
@@ -127,11 +129,44 @@ func (e *engine) analyse(j job) (o outcome) {
 	o.fi.SHA256 = sha256Hex(data)
 	opt := e.cfg.processOptions(j.folder)
 	o.res, o.err = process.Data(context.Background(), j.path, data, opt)
+	if o.err == nil {
+		if o.err = checkFinite(j.path, o.res); o.err != nil {
+			o.res = nil
+		}
+	}
 	return o
+}
+
+// maxErrorText bounds an error text that is stored (files.last_error),
+// logged and shown by status: a reader quotes the file, and a file can
+// hold anything.
+const maxErrorText = 2000
+
+// clippedError is an error whose text is cut to maxErrorText bytes; it
+// still unwraps to the error it clips.
+type clippedError struct {
+	err error
+	msg string
+}
+
+func (c *clippedError) Error() string { return c.msg }
+func (c *clippedError) Unwrap() error { return c.err }
+
+// clipErr returns err with its text cut to maxErrorText bytes.
+func clipErr(err error) error {
+	if err == nil {
+		return nil
+	}
+	msg := err.Error()
+	if len(msg) <= maxErrorText {
+		return err
+	}
+	return &clippedError{err: err, msg: read.Clip(msg, maxErrorText)}
 }
 
 // store1 writes one outcome in one transaction.
 func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
+	o.err = clipErr(o.err)
 	if o.err != nil {
 		if errors.Is(o.err, os.ErrNotExist) {
 			// Deleted before it was read: nothing to record, and no

@@ -8,6 +8,7 @@ import (
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/read"
 )
 
 func init() {
@@ -55,7 +56,7 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 			out["last_hit"] = map[string]any{"file": st.LastHit.Path, "hit_time": st.LastHit.HitTime, "ingested_at": st.LastHit.IngestedAt, "verdict": st.LastHit.Verdict}
 		}
 		if st.LastError != nil {
-			out["last_error"] = map[string]any{"file": st.LastError.Path, "error": st.LastError.Message, "time": st.LastError.Time, "attempts": st.LastError.Attempts, "final": st.LastError.Final}
+			out["last_error"] = map[string]any{"file": st.LastError.Path, "error": read.Clip(st.LastError.Message, maxErrorText), "time": st.LastError.Time, "attempts": st.LastError.Attempts, "final": st.LastError.Final}
 		}
 		writeJSONLine(e.stdout, out)
 		return nil
@@ -88,7 +89,7 @@ func printStatus(w io.Writer, st db.Status) {
 		fmt.Fprintf(w, "last hit  %s  %s (recorded %s)\n", lh.Path, lh.Verdict, lh.IngestedAt.Local().Format(time.DateTime))
 	}
 	if le := st.LastError; le != nil {
-		fmt.Fprintf(w, "last error %s: %s (%s, %d attempt(s))\n", le.Path, le.Message, le.Time.Local().Format(time.DateTime), le.Attempts)
+		fmt.Fprintf(w, "last error %s: %s (%s, %d attempt(s))\n", le.Path, read.Clip(le.Message, maxErrorText), le.Time.Local().Format(time.DateTime), le.Attempts)
 	}
 }
 

@@ -70,12 +70,12 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 		case len(t) == 0:
 		case t[0] == '#':
 			sawComment = true
-			k, v, ok := strings.Cut(toUTF8(t[1:]), ":")
+			kb, vb, ok := bytes.Cut(t[1:], []byte{':'})
 			if !ok {
 				continue // a plain comment
 			}
-			k = strings.ToLower(strings.TrimSpace(k))
-			v = strings.TrimSpace(v)
+			k := strings.ToLower(clipBytes(trimSpace(kb), MaxMetaKey))
+			v := clipBytes(trimSpace(vb), MaxMetaText)
 			if k == "" {
 				continue
 			}
@@ -228,7 +228,7 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 				var err error
 				v, err = parseCell(cell, decComma, &scratch)
 				if err != nil {
-					return nil, rowErr(name, lr.line, nl, "%s cell %q in column %q", err.Error(), string(trimSpace(cell)), cols[col].name)
+					return nil, rowErr(name, lr.line, nl, "%s cell %q in column %q", err.Error(), trimSpace(cell), cols[col].name)
 				}
 			}
 			if col == timeCol {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 )
 
 // ErrUnknownFormat is wrapped by the *Error returned for input that is none
@@ -58,15 +59,72 @@ func (e *Error) Unwrap() error { return e.Err }
 
 // lineErr returns an *Error located by line.
 func lineErr(file string, line int, err error, format string, args ...any) *Error {
-	return &Error{File: file, Line: line, Offset: -1, Problem: fmt.Sprintf(format, args...), Err: err}
+	return &Error{File: file, Line: line, Offset: -1, Problem: problem(format, args), Err: err}
 }
 
 // offErr returns an *Error located by byte offset.
 func offErr(file string, off int64, err error, format string, args ...any) *Error {
-	return &Error{File: file, Offset: off, Problem: fmt.Sprintf(format, args...), Err: err}
+	return &Error{File: file, Offset: off, Problem: problem(format, args), Err: err}
 }
 
 // fileErr returns an *Error about the whole file.
 func fileErr(file string, err error, format string, args ...any) *Error {
-	return &Error{File: file, Offset: -1, Problem: fmt.Sprintf(format, args...), Err: err}
+	return &Error{File: file, Offset: -1, Problem: problem(format, args), Err: err}
+}
+
+// Lengths at which text from a file is clipped. A message quotes a cell,
+// a name or a value so that the user can find it, and is stored, logged
+// and shown in status: a 200 MB cell must not go with it.
+const (
+	MaxQuoted   = 80   // bytes of one quoted piece of the file in a message
+	MaxProblem  = 1000 // bytes of a whole problem text
+	MaxMetaKey  = 128  // bytes of a metadata key
+	MaxMetaText = 1024 // bytes of a metadata value
+)
+
+// problem formats a message, clipping every text argument to MaxQuoted
+// bytes and the result to MaxProblem.
+func problem(format string, args []any) string {
+	for i, a := range args {
+		switch v := a.(type) {
+		case string:
+			args[i] = Clip(v, MaxQuoted)
+		case []byte:
+			args[i] = clipBytes(v, MaxQuoted)
+		case []string:
+			c := make([]string, 0, min(len(v), 20))
+			for _, s := range v[:min(len(v), 20)] {
+				c = append(c, Clip(s, MaxQuoted))
+			}
+			args[i] = c
+		}
+	}
+	return Clip(fmt.Sprintf(format, args...), MaxProblem)
+}
+
+// Clip returns s cut to at most n bytes on a UTF-8 boundary, with
+// "... (N bytes)" appended when it was longer. The whole of s is never
+// copied.
+func Clip(s string, n int) string {
+	if len(s) <= n {
+		return s
+	}
+	cut := n
+	for cut > 0 && !utf8.RuneStart(s[cut]) {
+		cut--
+	}
+	return strings.ToValidUTF8(s[:cut], "?") + "... (" + strconv.Itoa(len(s)) + " bytes)"
+}
+
+// clipBytes is Clip for bytes, converting only the part it keeps (bytes
+// that are not UTF-8 read as Latin-1, as elsewhere in the readers).
+func clipBytes(b []byte, n int) string {
+	if len(b) <= n {
+		return toUTF8(b)
+	}
+	cut := n
+	for cut > 0 && !utf8.RuneStart(b[cut]) {
+		cut--
+	}
+	return toUTF8(b[:cut]) + "... (" + strconv.Itoa(len(b)) + " bytes)"
 }

@@ -42,6 +42,16 @@ type Options struct {
 	TimeTolerance float64
 }
 
+// The sample rates a recording may have. Outside them every time and
+// frequency the analysis derives is meaningless or not even finite (a
+// rate of 4.9e-324 Hz gives a zero spectral bin width, 1e-306 Hz an
+// infinite duration); real recorders sample between a few hertz and a
+// few megahertz.
+const (
+	MinSampleRate = 1e-3 // Hz
+	MaxSampleRate = 1e9  // Hz
+)
+
 // forceWords are the name parts that mark a force channel by default.
 var forceWords = []string{"force", "hammer", "load", "impact"}
 
@@ -50,6 +60,14 @@ var forceWords = []string{"force", "hammer", "load", "impact"}
 // sample rate > 0. forceHint marks channels the file itself calls force.
 func finish(rec *pipeline.Recording, opt Options, forceHint []bool) error {
 	name := rec.Path
+	for k, v := range rec.Meta {
+		if ck := Clip(k, MaxMetaKey); ck != k {
+			delete(rec.Meta, k)
+			rec.Meta[ck] = Clip(v, MaxMetaText)
+		} else if len(v) > MaxMetaText {
+			rec.Meta[k] = Clip(v, MaxMetaText)
+		}
+	}
 	if len(rec.Channels) == 0 {
 		return fileErr(name, nil, "no channels")
 	}
@@ -71,6 +89,10 @@ func finish(rec *pipeline.Recording, opt Options, forceHint []bool) error {
 		}
 		if !(c.SampleRate > 0) || math.IsInf(c.SampleRate, 0) {
 			return fileErr(name, nil, "sample rate %g Hz of channel %q is not a positive finite number", c.SampleRate, c.Name)
+		}
+		if c.SampleRate < MinSampleRate || c.SampleRate > MaxSampleRate {
+			return fileErr(name, nil, "sample rate %g Hz of channel %q is outside %g to %g Hz, the range this reader accepts (a wrong unit or a broken header?)",
+				c.SampleRate, c.Name, MinSampleRate, MaxSampleRate)
 		}
 	}
 	// Roles.

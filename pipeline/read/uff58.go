@@ -229,6 +229,10 @@ func UFF58(r io.Reader, name string, opt Options) (*pipeline.Recording, error) {
 		}
 		taken[nm] = true
 		fs := 1 / u.dx
+		if !(fs >= MinSampleRate && fs <= MaxSampleRate) {
+			return nil, lineErr(name, u.line, nil, "record %q: abscissa increment %g s gives a sample rate of %g Hz, outside %g to %g Hz, the range this reader accepts",
+				nm, u.dx, fs, MinSampleRate, MaxSampleRate)
+		}
 		unc := fs * (0.5*u.dxRes/u.dx + 1e-12)
 		if r := math.Round(fs); math.Abs(fs-r) <= 1.5*unc {
 			fs = r

@@ -1,0 +1,89 @@
+package read
+
+import (
+	"bytes"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// smallCSV is a two-column CSV with a sample-rate line given by rate.
+func smallCSV(rate string, extra string) []byte {
+	var b bytes.Buffer
+	b.WriteString("# sample_rate: " + rate + "\n" + extra + "force,accel\n")
+	for i := range 64 {
+		b.WriteString("0,")
+		b.WriteString(strings.Repeat("1", 1+i%3))
+		b.WriteString("\n")
+	}
+	return b.Bytes()
+}
+
+// TestSampleRateOutsideRange: a metadata rate that is positive and finite
+// but absurd (4.9e-324 Hz is the smallest float64; it made the spectral
+// bin width zero and the analysis panic) is an error naming the file.
+func TestSampleRateOutsideRange(t *testing.T) {
+	for _, rate := range []string{"4.9e-324", "1e-300", "1e12"} {
+		_, err := CSV(bytes.NewReader(smallCSV(rate, "")), "tiny.csv", Options{})
+		wantErr(t, err, "tiny.csv", -1, "sample rate", "outside")
+	}
+	// The ends of the range are accepted.
+	for _, rate := range []string{"0.001", "1e9", "2048"} {
+		if _, err := CSV(bytes.NewReader(smallCSV(rate, "")), "ok.csv", Options{}); err != nil {
+			t.Errorf("rate %s: %v", rate, err)
+		}
+	}
+}
+
+// TestUFFHugeAbscissaStep: an abscissa increment of 1e306 s gave a rate of
+// 1e-306 Hz and an infinite duration that the JSON output could not print.
+func TestUFFHugeAbscissaStep(t *testing.T) {
+	src, err := os.ReadFile(filepath.Join("..", "..", "testdata", "read", "decay-ascii.uff"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, dx := range []string{"1.0E+306", "4.9E-324"} {
+		bad := bytes.ReplaceAll(src, []byte("4.88281E-04"), []byte(dx))
+		_, err = UFF58(bytes.NewReader(bad), "step.uff", Options{})
+		wantErr(t, err, "step.uff", -1, "sample rate")
+	}
+}
+
+// TestMessagesAndMetadataClipped: a huge non-numeric cell, a huge
+// metadata value and a huge key do not go whole into the error text or
+// the recording's metadata (they are stored, logged and shown in status).
+func TestMessagesAndMetadataClipped(t *testing.T) {
+	const huge = 8 << 20
+	cell := bytes.Repeat([]byte("x"), huge)
+	var b bytes.Buffer
+	b.WriteString("# sample_rate: 1000\nforce,accel\n0,1\n0,")
+	b.Write(cell)
+	b.WriteString("\n0,2\n")
+	_, err := CSV(&b, "cell.csv", Options{})
+	e := wantErr(t, err, "cell.csv", 4, "xxxx", "bytes)")
+	if n := len(err.Error()); n > MaxProblem+200 {
+		t.Errorf("error text is %d bytes, want at most about %d", n, MaxProblem)
+	}
+	_ = e
+
+	val := strings.Repeat("v", huge)
+	key := strings.Repeat("k", huge)
+	rec, err := CSV(bytes.NewReader(smallCSV("1000", "# operator: "+val+"\n# "+key+": short\n")), "meta.csv", Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	total := 0
+	for k, v := range rec.Meta {
+		total += len(k) + len(v)
+		if len(v) > MaxMetaText+40 || len(k) > MaxMetaKey+40 {
+			t.Errorf("metadata %q... (%d bytes) = %d bytes: not clipped", Clip(k, 20), len(k), len(v))
+		}
+	}
+	if !strings.HasPrefix(rec.Meta["operator"], "vvvv") || !strings.Contains(rec.Meta["operator"], "bytes)") {
+		t.Errorf("operator = %q, want the clipped value with its length", Clip(rec.Meta["operator"], 100))
+	}
+	if total > 8<<10 {
+		t.Errorf("metadata holds %d bytes", total)
+	}
+}
