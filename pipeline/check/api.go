@@ -11,4 +11,13 @@ type Input struct {
 	Response *pipeline.Channel // the response channel analysed
 	Force    *pipeline.Channel // nil without a force channel
 	Decay    *modal.Decay      // the estimators' findings on Response
+
+	// dropped marks the modes a rule earlier in Run dropped: a dropped mode
+	// raises no further flag, alone or as one of a pair.
+	dropped map[int]bool
+	// pulse caches the force pulse, located once per hit.
+	pulse *pulseCache
 }
+
+// isDropped reports whether mode i was dropped by an earlier rule.
+func (in Input) isDropped(i int) bool { return in.dropped[i] }

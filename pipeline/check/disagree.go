@@ -53,7 +53,7 @@ func (Disagreement) Check(in Input, th Thresholds) []pipeline.Reason {
 	var out []pipeline.Reason
 	for i, m := range modes(in) {
 		z := m.DampingRatio
-		if !finite(z) || z <= 0 {
+		if !finite(z) || z <= 0 || in.isDropped(i) {
 			continue
 		}
 		var (

@@ -29,7 +29,7 @@ func (DoubleStrike) Info() []RuleInfo {
 
 // Check looks at the force channel.
 func (DoubleStrike) Check(in Input, th Thresholds) []pipeline.Reason {
-	fp, ok := findPulse(in.Force, th)
+	fp, ok := in.forcePulseOf(th)
 	if !ok {
 		return nil
 	}

@@ -47,7 +47,7 @@ func (Excitation) Check(in Input, th Thresholds) []pipeline.Reason {
 	if len(ms) == 0 {
 		return nil
 	}
-	fp, ok := findPulse(in.Force, th)
+	fp, ok := in.forcePulseOf(th)
 	if !ok {
 		return nil
 	}

@@ -69,6 +69,26 @@ func findPulse(ch *pipeline.Channel, th Thresholds) (forcePulse, bool) {
 	return fp, true
 }
 
+// pulseCache holds the force pulse of one hit, found once by whichever
+// rule asks first.
+type pulseCache struct {
+	done bool
+	fp   forcePulse
+	ok   bool
+}
+
+// forcePulseOf returns the hit's main force pulse, located once per Run.
+func (in Input) forcePulseOf(th Thresholds) (forcePulse, bool) {
+	if in.pulse == nil {
+		return findPulse(in.Force, th)
+	}
+	if !in.pulse.done {
+		in.pulse.fp, in.pulse.ok = findPulse(in.Force, th)
+		in.pulse.done = true
+	}
+	return in.pulse.fp, in.pulse.ok
+}
+
 // pulse is one excursion of the force above the rise level.
 type pulse struct {
 	peak   int

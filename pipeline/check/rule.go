@@ -63,12 +63,31 @@ func Rules() []Rule {
 
 // Run applies every rule of Rules to the hit and returns all findings in
 // rule order. A nil result means a clean hit.
+//
+// A mode dropped by a rule (severity drop) is left out of the later rules
+// and keeps no flag of its own: a mode that is not usable is not a mode
+// whose flags mean anything, and it never makes half of a pair.
 func Run(in Input, th Thresholds) []pipeline.Reason {
+	in.dropped = map[int]bool{}
+	in.pulse = &pulseCache{}
 	var out []pipeline.Reason
 	for _, r := range Rules() {
-		out = append(out, r.Check(in, th)...)
+		rs := r.Check(in, th)
+		out = append(out, rs...)
+		for _, x := range rs {
+			if x.Severity == pipeline.SeverityDrop && x.Mode != nil {
+				in.dropped[*x.Mode] = true
+			}
+		}
 	}
-	return out
+	kept := out[:0]
+	for _, x := range out {
+		if x.Severity == pipeline.SeverityFlag && x.Mode != nil && in.dropped[*x.Mode] {
+			continue
+		}
+		kept = append(kept, x)
+	}
+	return kept
 }
 
 // Describe lists every reason code the default rules can give, in rule

@@ -96,6 +96,9 @@ func mixedModes(in Input, th Thresholds) []pipeline.Reason {
 	}
 	main := -1
 	for i, m := range ms {
+		if in.isDropped(i) {
+			continue
+		}
 		switch {
 		case target > 0:
 			if finite(m.FrequencyHz) && (main < 0 || math.Abs(m.FrequencyHz-target) < math.Abs(ms[main].FrequencyHz-target)) {
@@ -114,7 +117,7 @@ func mixedModes(in Input, th Thresholds) []pipeline.Reason {
 	}
 	var out []pipeline.Reason
 	for i, m := range ms {
-		if i == main || !finite(m.EnergyShare) || !(m.EnergyShare > th.MaxOtherEnergyShare) {
+		if i == main || in.isDropped(i) || !finite(m.EnergyShare) || !(m.EnergyShare > th.MaxOtherEnergyShare) {
 			continue
 		}
 		out = append(out, pipeline.Reason{
@@ -136,7 +139,7 @@ func beatingModes(in Input, th Thresholds) []pipeline.Reason {
 	}
 	idx := make([]int, 0, len(ms))
 	for i, m := range ms {
-		if finite(m.FrequencyHz) && m.FrequencyHz > 0 {
+		if finite(m.FrequencyHz) && m.FrequencyHz > 0 && !in.isDropped(i) {
 			idx = append(idx, i)
 		}
 	}

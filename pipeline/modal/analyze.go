@@ -17,7 +17,7 @@ const (
 	pencilLen        = 240     // band-signal samples the matrix pencil sees
 	maxZeta          = 0.25    // heavier "modes" are not structural modes of a hit
 	detectSigmas     = 3.0     // decay rate and amplitude must be this many standard errors from zero
-	maxFitComponents = 24      // components in the joint least-squares fit
+	maxFitComponents = 48      // components in the joint least-squares fit
 )
 
 // Estimator names, as in pipeline.Estimate.Method.
@@ -73,12 +73,29 @@ func Analyze(x []float64, fs float64, force []float64, opt Options) (*Decay, err
 		return nil, err
 	}
 	opt = withDefaults(opt, fs)
+	step := adcStep(x)
+	if tau := opt.WindowTauS; tau > 0 {
+		// Divide the window out first: the record is then a free decay in
+		// stationary noise again, the noise level is the unwindowed one
+		// and every estimator (and the point where a decay meets the
+		// noise) works as on an unwindowed record; no correction of the
+		// poles is left to make.
+		xu := make([]float64, len(x))
+		for i, v := range x {
+			xu[i] = v * math.Exp(float64(i)/(fs*tau))
+		}
+		x = xu
+		opt.WindowTauS = 0
+	}
 	h := locateHit(x, fs, force)
+	if step > 0 {
+		h.noise = math.Max(h.noise, step/math.Sqrt(12))
+	}
 	d := &Decay{Onset: h.onset, Trigger: h.trigger, NoiseRMS: h.noise, Peak: h.peak}
 	if h.stop-h.onset < minDecaySamples {
 		return d, nil
 	}
-	a := &analysis{x: x, fs: fs, force: force, opt: opt, hit: h}
+	a := &analysis{x: x, fs: fs, force: force, opt: opt, hit: h, step: step}
 	a.x0 = make([]float64, h.stop-h.onset)
 	for i := range a.x0 {
 		a.x0[i] = x[h.onset+i] - h.offset
@@ -86,6 +103,10 @@ func Analyze(x []float64, fs float64, force []float64, opt Options) (*Decay, err
 	a.noise = math.Max(h.noise, 1e-12*h.peak)
 	a.run()
 	d.Modes, d.Diag = a.modes, a.diags
+	if a.nm != nil {
+		d.Noise = a.nm
+	}
+	d.Lines, d.Capped, d.Transients = a.lines, a.capped, a.transients
 	return d, nil
 }
 
@@ -122,10 +143,10 @@ func checkRecord(x []float64, fs float64, force []float64) error {
 
 func withDefaults(o Options, fs float64) Options {
 	if o.MaxModes <= 0 {
-		o.MaxModes = 8
+		o.MaxModes = 40
 	}
-	if o.FMinHz <= 0 {
-		o.FMinHz = 0.5
+	if !(o.FMinHz > 0) {
+		o.FMinHz = 0 // 0 means 0: no hidden floor
 	}
 	if o.FMaxHz <= 0 || o.FMaxHz > 0.45*fs {
 		o.FMaxHz = 0.45 * fs
@@ -143,6 +164,7 @@ type hit struct {
 	noise, peak          float64
 	forceBase            float64
 	hasForce             bool
+	preEnd               int // the pre-trigger noise is x[:preEnd] (0: none usable)
 }
 
 // robustSD returns the median and 1.4826 times the median absolute
@@ -263,6 +285,9 @@ func locateHit(x []float64, fs float64, force []float64) hit {
 	offPre, sdPre := robustSD(pre)
 	offTail, sdTail := robustSD(tail)
 	h.offset = off0
+	if len(pre) >= 32 {
+		h.preEnd = len(pre)
+	}
 	switch {
 	case len(pre) >= 256 || (len(pre) >= 32 && tail == nil):
 		h.noise, h.offset = sdPre, offPre
@@ -349,6 +374,13 @@ type analysis struct {
 	x0       []float64 // free decay, offset removed (as recorded: windowed)
 	noise    float64   // full-rate noise sd (floored)
 	spanN    int       // samples of x0 until the decay meets the noise
+	step     float64   // ADC step of the record, 0 when none
+	nm       *NoiseModel
+
+	lines      []Line
+	lineK      map[int]bool // fitted components that are lines
+	capped     int
+	transients []Transient
 
 	modes []pipeline.Mode
 	diags []ModeDiag
@@ -362,6 +394,7 @@ type candidate struct {
 
 func (a *analysis) run() {
 	a.spanN = decaySpan(a.x0, a.noise)
+	a.nm = a.noiseModel()
 	ns := min(a.spanN, spectrumMaxLen)
 	truncated := a.spanN >= len(a.x0)-len(a.x0)/50 || ns < a.spanN
 	p, binHz := decaySpectrum(a.x0[:ns], a.fs, truncated)
@@ -402,6 +435,11 @@ func (a *analysis) run() {
 			}
 			return 0
 		})
+		for _, c := range cands[maxFitComponents:] {
+			if c.c.Amp > 3*a.nm.SDAt(c.c.Omega/(2*math.Pi)) {
+				a.capped++
+			}
+		}
 		cands = cands[:maxFitComponents]
 	}
 	a.fitAndReport(cands)
@@ -453,9 +491,9 @@ func (a *analysis) fitAndReport(cands []candidate) {
 	// span of the fit: until every decaying component is 26 dB under the
 	// noise (less than 0.2 % of the information on the decay rate is left
 	// beyond), or the whole decay when one does not decay
-	noise := a.noise
+	wscale := 1.0
 	if tau > 0 {
-		noise *= math.Exp(t0 / tau)
+		wscale = math.Exp(t0 / tau)
 	}
 	nFit := 0
 	for _, c := range start {
@@ -463,6 +501,7 @@ func (a *analysis) fitAndReport(cands []candidate) {
 			nFit = len(a.x0)
 			break
 		}
+		noise := wscale * a.nm.SDAt(c.Omega/(2*math.Pi))
 		if c.Amp > 0.05*noise {
 			t := math.Log(c.Amp/(0.05*noise)) / c.Sigma
 			nFit = max(nFit, int(math.Min(t*a.fs, float64(len(a.x0)))))
@@ -479,7 +518,7 @@ func (a *analysis) fitAndReport(cands []candidate) {
 	var fit *Fit
 	for len(start) > 0 {
 		var err error
-		fit, err = FitDecay(y, a.fs, start)
+		fit, err = FitDecayBaseline(y, a.fs, start, a.baseline())
 		if err == nil {
 			break
 		}
@@ -499,7 +538,41 @@ func (a *analysis) fitAndReport(cands []candidate) {
 	if fit == nil {
 		return
 	}
+	a.residualNoise(fit, y)
 	a.report(fit, cands, y)
+	a.findTransients(fit, y)
+}
+
+// baseline is the slow part of the least-squares model: offset and a
+// quadratic drift (a few percent of the peak of thermal drift or a
+// settling offset would otherwise bias the damping of the modes), and the
+// step response of an AC coupling when its corner is known.
+func (a *analysis) baseline() Baseline {
+	b := Baseline{Degree: 2}
+	if a.opt.HighpassHz > 0 {
+		b.Rates = []float64{2 * math.Pi * a.opt.HighpassHz}
+	}
+	return b
+}
+
+// mainsLine reports whether f lies on the mains frequency or one of its
+// harmonics (within half a percent and the resolution 1/T of the fit
+// span T seconds).
+func (a *analysis) mainsLine(f, T float64) bool {
+	var ms []float64
+	switch {
+	case a.opt.MainsHz > 0:
+		ms = []float64{a.opt.MainsHz}
+	case a.opt.MainsHz == 0:
+		ms = []float64{50, 60}
+	}
+	for _, m := range ms {
+		k := math.Round(f / m)
+		if k >= 1 && math.Abs(f-k*m) < 0.005*f+1/T {
+			return true
+		}
+	}
+	return false
 }
 
 // report turns the fitted components into modes with their cross-checks.
@@ -512,9 +585,28 @@ func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
 	}
 	var fs []found
 	q := fit.Quantile975()
+	tFit := float64(fit.N) / a.fs
+	a.lineK = map[int]bool{}
 	for k, c := range fit.Components {
 		fn, zeta, sdFn, sdZeta := fit.ModalSD(k)
-		if !(c.Sigma > detectSigmas*fit.SigmaSD(k)) || !(c.Amp > detectSigmas*fit.AmpSD(k)) {
+		// the covariance assumes white noise at the residual's level; a
+		// mode sees the noise at its own frequency (coloured noise: 1/f at
+		// low frequencies), so its standard errors scale with that level
+		// (never below the white-noise ones)
+		r := math.Max(1, a.nm.SDAt(c.Omega/(2*math.Pi))/fit.ResidualSD)
+		sdFn, sdZeta = r*sdFn, r*sdZeta
+		ampOK := c.Amp > detectSigmas*r*fit.AmpSD(k)
+		steady := !(c.Sigma > detectSigmas*r*fit.SigmaSD(k))
+		// at a mains harmonic a component must decay clearly to be a mode
+		mains := a.mainsLine(fn, tFit) && (!(c.Sigma > 5*r*fit.SigmaSD(k)) || c.Sigma*tFit < 0.1)
+		if ampOK && (steady || mains) {
+			// a line: hum, its harmonics or another steady tone; fitted so
+			// that it biases no mode, and taken out of the cross-checks
+			a.lineK[k] = true
+			a.lines = append(a.lines, Line{FrequencyHz: c.Omega / (2 * math.Pi), Amplitude: c.Amp, Mains: a.mainsLine(fn, tFit)})
+			continue
+		}
+		if steady || !ampOK {
 			continue
 		}
 		if !(zeta < maxZeta) || fn < a.opt.FMinHz || fn > a.opt.FMaxHz {
@@ -527,6 +619,7 @@ func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
 		return
 	}
 	if len(fs) > a.opt.MaxModes {
+		a.capped += len(fs) - a.opt.MaxModes
 		slices.SortFunc(fs, func(p, r found) int {
 			switch {
 			case p.energy > r.energy:
@@ -551,12 +644,10 @@ func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
 	for _, f := range fs {
 		etot += f.energy
 	}
-	noiseVar := fit.ResidualSD * fit.ResidualSD
-	if a.noise > 0 {
-		noiseVar = a.noise * a.noise
-	}
 	for _, f := range fs {
 		c := fit.Components[f.k]
+		ln := math.Max(a.nm.SDAt(c.Omega/(2*math.Pi)), 1e-300)
+		noiseVar := ln * ln
 		m := pipeline.Mode{
 			FrequencyHz:    f.fn,
 			FrequencyCI95:  [2]float64{f.fn - q*f.sdFn, f.fn + q*f.sdFn},
@@ -565,14 +656,14 @@ func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
 			DampingRatioSD: f.sdZeta,
 			Amplitude:      c.Amp,
 			EnergyShare:    f.energy / etot,
-			DecaySNRdB:     20 * math.Log10(c.Amp/math.Max(a.noise, 1e-300)),
+			DecaySNRdB:     20 * math.Log10(c.Amp/ln),
 		}
 		m.Estimates = append(m.Estimates, pipeline.Estimate{Method: MethodNLS, FrequencyHz: f.fn, DampingRatio: f.zeta,
 			Note: fmt.Sprintf("least squares on %d samples, %d components", fit.N, len(fit.Components))})
 		if sub, ok := a.subspaceEstimate(cands[f.k]); ok {
 			m.Estimates = append(m.Estimates, sub)
 		}
-		diag := ModeDiag{ENR: f.energy / noiseVar, ZetaEarly: math.NaN(), ZetaLate: math.NaN(),
+		diag := ModeDiag{ENR: f.energy / noiseVar, NoiseSD: ln, ZetaEarly: math.NaN(), ZetaLate: math.NaN(),
 			ExpRSS: math.NaN(), LinRSS: math.NaN()}
 		a.crossChecks(&m, &diag, fit, f.k)
 		// spread of the cross-checks from the primary

@@ -90,8 +90,8 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 			isolated = false
 		}
 	}
-	// noise in the band (white noise: variance scales with the band width)
-	nb := a.noise * math.Sqrt(2*(hi-lo)/a.fs)
+	// noise in the band, from the noise spectrum
+	nb := a.nm.BandSD(lo, hi)
 	// model-based usable span: until the envelope falls to 10 times the
 	// noise in the band
 	maxT := float64(len(a.x0)) / a.fs
@@ -114,6 +114,13 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 	seg := make([]float64, pre+nSpan)
 	for i := range seg {
 		seg[i] = a.x[a.hit.onset-pre+i] - a.hit.offset
+	}
+	// take the fitted lines (hum) and the baseline (drift) out: a line
+	// beside the mode would beat with it in the band and spoil the
+	// envelope and the decrement
+	corr := fit.ModelTo(make([]float64, len(seg)), -pre, func(j int) bool { return a.lineK[j] }, true)
+	for i := range seg {
+		seg[i] -= corr[i]
 	}
 	y, fsx := decimateLow(seg, a.fs, hi, d)
 	i0 := pre / d

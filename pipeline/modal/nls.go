@@ -17,13 +17,22 @@ import (
 //
 // The model is
 //
-//	y(t) = c + sum_k exp(-sigma_k t) (a_k cos(omega_k t) + b_k sin(omega_k t)),
+//	y(t) = b(t) + sum_k exp(-sigma_k t) (a_k cos(omega_k t) + b_k sin(omega_k t)),
 //
 // with parameters ordered (a_k, b_k, sigma_k, omega_k) for each component
-// and the offset c last.
+// and the baseline b(t) last: an offset c, then (with FitDecayBaseline)
+// the coefficients of the Legendre polynomials P_1..P_d of the record's
+// time mapped onto [-1, 1] (slow drift) and the amplitudes of exponentials
+// exp(-r t) of known rates (the step response of an AC coupling).
 type Fit struct {
 	Components []Component
 	Offset     float64
+	// Baseline holds the linear baseline coefficients after the offset:
+	// Drift[0..d-1] for P_1..P_d, then one amplitude per Baseline.Rates.
+	Drift []float64
+	// Basis is the baseline the fit used.
+	Basis Baseline
+	dt    float64
 	// Cov is the covariance s^2 (J^T J)^-1 of the parameters at the
 	// solution, with s^2 = RSS/(N-P) the residual variance.
 	Cov *mat.SymDense
@@ -56,8 +65,30 @@ var ErrFitFailed = errors.New("least-squares fit failed")
 // should hold white noise around the model: pass the decay at its full
 // rate (the noise of a filtered, decimated band signal is coloured).
 func FitDecay(y []float64, fs float64, start []Component) (*Fit, error) {
+	return FitDecayBaseline(y, fs, start, Baseline{})
+}
+
+// Baseline says which slow terms the least-squares model carries besides
+// the offset: a drift polynomial of degree Degree (0..3) in the record's
+// time, and exponentials exp(-r t) of the given known rates r (1/s), such
+// as the step response 2 pi f_c of a first-order high-pass (the AC
+// coupling of a sensor or amplifier with corner f_c). Every term is linear
+// in its coefficient; the decay poles are not changed by either.
+type Baseline struct {
+	Degree int
+	Rates  []float64
+}
+
+func (b Baseline) size() int { return 1 + b.Degree + len(b.Rates) }
+
+// FitDecayBaseline is FitDecay with the baseline terms of bl in the model.
+func FitDecayBaseline(y []float64, fs float64, start []Component, bl Baseline) (*Fit, error) {
+	bl.Degree = max(0, min(bl.Degree, 3))
+	if len(bl.Rates) > 4 {
+		return nil, fmt.Errorf("modal: fit: %d baseline exponentials, at most 4", len(bl.Rates))
+	}
 	k := len(start)
-	p := 4*k + 1
+	p := 4*k + bl.size()
 	n := len(y)
 	if k == 0 {
 		return nil, fmt.Errorf("modal: fit: no start components")
@@ -75,7 +106,7 @@ func FitDecay(y []float64, fs float64, start []Component) (*Fit, error) {
 		theta[4*i+2] = c.Sigma
 		theta[4*i+3] = c.Omega
 	}
-	w := &nlsWork{y: y, dt: 1 / fs, k: k, p: p, jtj: mat.NewSymDense(p, nil), jtr: make([]float64, p)}
+	w := &nlsWork{y: y, dt: 1 / fs, k: k, p: p, bl: bl, jtj: mat.NewSymDense(p, nil), jtr: make([]float64, p)}
 	span := n
 	for _, c := range start {
 		if c.Sigma > 0 {
@@ -113,7 +144,7 @@ func FitDecay(y []float64, fs float64, start []Component) (*Fit, error) {
 		return nil, fmt.Errorf("modal: fit: %v: %w", err, ErrFitFailed)
 	}
 	cov.ScaleSym(s2, cov)
-	f := &Fit{Offset: theta[p-1], Cov: cov, ResidualSD: math.Sqrt(s2), N: n, DOF: dof, Iterations: iters}
+	f := &Fit{Offset: theta[4*k], Drift: slices.Clone(theta[4*k+1:]), Basis: bl, dt: 1 / fs, Cov: cov, ResidualSD: math.Sqrt(s2), N: n, DOF: dof, Iterations: iters}
 	for i := 0; i < k; i++ {
 		a, b := theta[4*i], theta[4*i+1]
 		om := theta[4*i+3]
@@ -171,6 +202,7 @@ type nlsWork struct {
 	y      []float64
 	dt     float64
 	k, p   int
+	bl     Baseline
 	jtj    *mat.SymDense
 	jtr    []float64
 	ends   []int     // per component: samples beyond which it is negligible
@@ -266,13 +298,24 @@ func (w *nlsWork) normal(theta []float64, m int) float64 {
 	var rss float64
 	nAct := w.k
 	colsFor := -1
-	off := theta[p-1]
+	nb0 := 4 * w.k
+	var bv [8]float64 // baseline basis values at the sample
+	bexp := make([]float64, len(w.bl.Rates))
+	bstep := make([]float64, len(w.bl.Rates))
+	for j, r := range w.bl.Rates {
+		bexp[j], bstep[j] = 1, math.Exp(-r*w.dt)
+	}
+	uScale := 2 / float64(max(len(w.y)-1, 1))
 	for n := 0; n < m; n++ {
 		for nAct > 0 && w.ends[w.order[nAct-1]] <= n {
 			nAct--
 		}
 		t := float64(n) * w.dt
-		model := off
+		nbv := w.bl.basis(bv[:], float64(n)*uScale-1, bexp)
+		model := 0.0
+		for j := 0; j < nbv; j++ {
+			model += theta[nb0+j] * bv[j]
+		}
 		if n&511 == 0 && n > 0 { // refresh the recurrences against round-off
 			for i := range rots {
 				sg, om := theta[4*i+2], theta[4*i+3]
@@ -289,13 +332,17 @@ func (w *nlsWork) normal(theta []float64, m int) float64 {
 				cols = append(cols, 4*i, 4*i+1, 4*i+2, 4*i+3)
 			}
 			slices.Sort(cols)
-			cols = append(cols, p-1)
+			for c := 4 * w.k; c < p; c++ {
+				cols = append(cols, c)
+			}
 			for c, ca := range cols {
 				pos[ca] = c
 			}
 			colsFor = nAct
 		}
-		w.gt[pos[p-1]*blk+nb] = 1
+		for j := 0; j < nbv; j++ {
+			w.gt[pos[nb0+j]*blk+nb] = bv[j]
+		}
 		for q := 0; q < nAct; q++ {
 			i := w.order[q]
 			r := &rots[i]
@@ -319,9 +366,59 @@ func (w *nlsWork) normal(theta []float64, m int) float64 {
 			r := &rots[i]
 			r.zr, r.zi = r.zr*r.sr-r.zi*r.si, r.zr*r.si+r.zi*r.sr
 		}
+		for j := range bexp {
+			bexp[j] *= bstep[j]
+		}
 	}
 	flush()
 	return rss
+}
+
+// basis writes the baseline's basis values at normalised time u (-1 at
+// the first sample of the record, 1 at the last) into dst and returns how
+// many: 1, the Legendre polynomials P_1..P_Degree, then the exponentials
+// (current values in ex).
+func (b Baseline) basis(dst []float64, u float64, ex []float64) int {
+	dst[0] = 1
+	n := 1
+	if b.Degree >= 1 {
+		dst[n] = u
+		n++
+	}
+	if b.Degree >= 2 {
+		dst[n] = (3*u*u - 1) / 2
+		n++
+	}
+	if b.Degree >= 3 {
+		dst[n] = (5*u*u*u - 3*u) / 2
+		n++
+	}
+	n += copy(dst[n:], ex)
+	return n
+}
+
+// BaselineAt returns the fitted baseline (offset, drift and exponential
+// terms) at sample i of the fitted record (the record's time base: i = 0
+// at its first sample); before its start and beyond its end the value at
+// the nearest end.
+func (f *Fit) BaselineAt(i int) float64 {
+	// held at its end values outside the fitted span: a polynomial does
+	// not extrapolate
+	i = max(0, min(i, f.N-1))
+	var bv [8]float64
+	var exa [4]float64
+	ex := exa[:len(f.Basis.Rates)]
+	dt := f.dt
+	for j, r := range f.Basis.Rates {
+		ex[j] = math.Exp(-r * float64(i) * dt)
+	}
+	u := 2*float64(i)/float64(max(f.N-1, 1)) - 1
+	nb := f.Basis.basis(bv[:], u, ex)
+	v := f.Offset * bv[0]
+	for j := 1; j < nb; j++ {
+		v += f.Drift[j-1] * bv[j]
+	}
+	return v
 }
 
 // levenbergMarquardt iterates on the first m samples until the step is
@@ -389,4 +486,39 @@ func (w *nlsWork) levenbergMarquardt(theta []float64, m int, tol float64) (int, 
 		}
 	}
 	return accepted, rss, nil
+}
+
+// ModelTo adds to dst[j] the fitted model at sample i0+j of the fitted
+// record's time base (i0 may be negative: samples before its start): the
+// components k for which comp(k) is true (all when comp is nil) and, with
+// baseline, the baseline terms. It returns dst.
+func (f *Fit) ModelTo(dst []float64, i0 int, comp func(k int) bool, baseline bool) []float64 {
+	for k, c := range f.Components {
+		if comp != nil && !comp(k) {
+			continue
+		}
+		t0 := float64(i0) * f.dt
+		e0 := math.Exp(-c.Sigma * t0)
+		s0, c0 := math.Sincos(c.Omega*t0 + c.Phase)
+		zr, zi := c.Amp*e0*c0, c.Amp*e0*s0
+		e := math.Exp(-c.Sigma * f.dt)
+		ss, cs := math.Sincos(c.Omega * f.dt)
+		sr, si := e*cs, e*ss
+		for j := range dst {
+			if j&1023 == 0 && j > 0 { // refresh against round-off
+				t := float64(i0+j) * f.dt
+				ej := c.Amp * math.Exp(-c.Sigma*t)
+				sj, cj := math.Sincos(c.Omega*t + c.Phase)
+				zr, zi = ej*cj, ej*sj
+			}
+			dst[j] += zr
+			zr, zi = zr*sr-zi*si, zr*si+zi*sr
+		}
+	}
+	if baseline {
+		for j := range dst {
+			dst[j] += f.BaselineAt(i0 + j)
+		}
+	}
+	return dst
 }
