@@ -3,7 +3,9 @@ package report
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
+	"sync"
 	"time"
 
 	"gonum.org/v1/gonum/stat"
@@ -80,30 +82,16 @@ func MannKendallTest(x []float64) MannKendall {
 	if n < 3 {
 		return mk
 	}
-	s := 0.0
-	for i := 0; i < n; i++ {
-		for j := i + 1; j < n; j++ {
-			switch d := x[j] - x[i]; {
-			case d > 0:
-				s++
-			case d < 0:
-				s--
-			}
+	// Pairs with a NaN count as ties of sign 0, and a NaN ties with
+	// nothing: S and the tie term come from the other values.
+	vals := make([]float64, 0, n)
+	for _, v := range x {
+		if !math.IsNaN(v) {
+			vals = append(vals, v)
 		}
 	}
-	sorted := append([]float64(nil), x...)
-	sort.Float64s(sorted)
-	ties := 0.0
-	for lo := 0; lo < n; {
-		hi := lo + 1
-		for hi < n && sorted[hi] == sorted[lo] {
-			hi++
-		}
-		if t := float64(hi - lo); t > 1 {
-			ties += t * (t - 1) * (2*t + 5)
-		}
-		lo = hi
-	}
+	si, ties := kendallS(vals)
+	s := float64(si)
 	fn := float64(n)
 	mk.S = s
 	mk.Var = (fn*(fn-1)*(2*fn+5) - ties) / 18
@@ -124,18 +112,15 @@ func MannKendallTest(x []float64) MannKendall {
 
 // SenSlope returns Sen's slope of x over t: the median of the slopes
 // (x_j - x_i)/(t_j - t_i) over all pairs with t_j != t_i. NaN when no pair
-// has distinct times.
-func SenSlope(t, x []float64) float64 {
-	var slopes []float64
-	for i := range t {
-		for j := i + 1; j < len(t); j++ {
-			if dt := t[j] - t[i]; dt != 0 {
-				slopes = append(slopes, (x[j]-x[i])/dt)
-			}
-		}
-	}
-	return median(slopes)
-}
+// has distinct times. Up to SenExactPairs pairs it is exact; beyond, it is
+// the median of a random sample of SenSamplePairs pairs (SenDetail says
+// which and how close).
+func SenSlope(t, x []float64) float64 { return senSlope(t, x).Slope }
+
+// SenSlopeDetail is SenSlope with how it was found: the number of pairs,
+// the sample size (0 when exact) and the exact rank of the slope among all
+// pair slopes.
+func SenSlopeDetail(t, x []float64) SenDetail { return senSlope(t, x) }
 
 // QuantityTrend is the trend of one quantity of one mode, per day.
 type QuantityTrend struct {
@@ -143,6 +128,9 @@ type QuantityTrend struct {
 	Linear      LinearTrend `json:"least_squares_per_day"`
 	MannKendall MannKendall `json:"mann_kendall"`
 	SenSlope    float64     `json:"sen_slope_per_day"`
+	// Sen says how Sen's slope was found: exact, or from a random sample
+	// of the pairs with its exact rank among all of them.
+	Sen SenInfo `json:"sen"`
 	// RelativePerDay is Sen's slope over the median; RelativeChange is
 	// Sen's slope times the span over the median.
 	RelativePerDay float64 `json:"relative_sen_slope_per_day"`
@@ -179,22 +167,50 @@ type RevisionTrend struct {
 
 // Trends computes the trend of every mode of every revision of id.
 func Trends(id *Identified) []RevisionTrend {
-	var out []RevisionTrend
-	for _, rev := range id.Revisions() {
-		rt := RevisionTrend{Revision: rev, Modes: []ModeTrend{}, Warnings: []string{}}
+	// The modes are independent: compute them on every core, then
+	// assemble in order.
+	type job struct {
+		rev, at int
+		l       ModeLabel
+		obs     []Observation
+	}
+	revs := id.Revisions()
+	var jobs []job
+	for ri, rev := range revs {
 		for _, l := range id.Labels {
-			obs := id.Select(rev, l.Label)
-			if len(obs) == 0 {
-				continue
-			}
-			mt := TrendOf(l, obs)
-			rt.Prototype = mt.Prototype
-			rt.Modes = append(rt.Modes, mt)
-			if mt.Warning != "" {
-				rt.Warnings = append(rt.Warnings, mt.Warning)
+			if obs := id.Select(rev, l.Label); len(obs) > 0 {
+				jobs = append(jobs, job{rev: ri, at: len(jobs), l: l, obs: obs})
 			}
 		}
-		out = append(out, rt)
+	}
+	results := make([]ModeTrend, len(jobs))
+	next := make(chan job)
+	var wg sync.WaitGroup
+	for range min(runtime.GOMAXPROCS(0), max(len(jobs), 1)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for j := range next {
+				results[j.at] = TrendOf(j.l, j.obs)
+			}
+		}()
+	}
+	for _, j := range jobs {
+		next <- j
+	}
+	close(next)
+	wg.Wait()
+	out := make([]RevisionTrend, len(revs))
+	for ri, rev := range revs {
+		out[ri] = RevisionTrend{Revision: rev, Modes: []ModeTrend{}, Warnings: []string{}}
+	}
+	for _, j := range jobs {
+		rt, mt := &out[j.rev], results[j.at]
+		rt.Prototype = mt.Prototype
+		rt.Modes = append(rt.Modes, mt)
+		if mt.Warning != "" {
+			rt.Warnings = append(rt.Warnings, mt.Warning)
+		}
 	}
 	return out
 }
@@ -206,7 +222,7 @@ func TrendOf(l ModeLabel, obs []Observation) ModeTrend {
 	sort.SliceStable(obs, func(a, b int) bool { return obs[a].Time.Before(obs[b].Time) })
 	mt := ModeTrend{ModeLabel: l, Name: l.Name(), N: len(obs)}
 	empty := QuantityTrend{Median: math.NaN(), Linear: LinearFit(nil, nil), MannKendall: MannKendallTest(nil),
-		SenSlope: math.NaN(), RelativePerDay: math.NaN(), RelativeChange: math.NaN()}
+		SenSlope: math.NaN(), Sen: SenInfo{Method: "exact", Rank: math.NaN()}, RelativePerDay: math.NaN(), RelativeChange: math.NaN()}
 	mt.Damping, mt.Frequency = empty, empty
 	if len(obs) == 0 {
 		mt.Note = "no hits"
@@ -246,8 +262,33 @@ func TrendOf(l ModeLabel, obs []Observation) ModeTrend {
 	return mt
 }
 
+// SenInfo is how Sen's slope was found, as the JSON of a trend shows it.
+type SenInfo struct {
+	// Method is "exact" or "random sample".
+	Method string `json:"method"`
+	// Pairs is the number of pair slopes (pairs with distinct times).
+	Pairs int64 `json:"pairs"`
+	// Sample is the number of pairs drawn; 0 when exact.
+	Sample int `json:"sample"`
+	// Rank is the share of all pair slopes at or below the slope, counted
+	// exactly (one half, or just above, for the exact median).
+	Rank float64 `json:"rank"`
+	// RankBound95 is the 95 % bound of |Rank - 0.5| for a sample; 0 when
+	// exact.
+	RankBound95 float64 `json:"rank_bound95"`
+}
+
+func senInfo(d SenDetail) SenInfo {
+	si := SenInfo{Method: "exact", Pairs: d.Pairs, Sample: d.Sample, Rank: d.Rank}
+	if d.Sample > 0 {
+		si.Method, si.RankBound95 = "random sample", SenRankBound95
+	}
+	return si
+}
+
 func quantityTrend(t, x []float64, span float64) QuantityTrend {
-	q := QuantityTrend{Median: median(x), Linear: LinearFit(t, x), MannKendall: MannKendallTest(x), SenSlope: SenSlope(t, x)}
+	sen := senSlope(t, x)
+	q := QuantityTrend{Median: median(x), Linear: LinearFit(t, x), MannKendall: MannKendallTest(x), SenSlope: sen.Slope, Sen: senInfo(sen)}
 	q.RelativePerDay = q.SenSlope / q.Median
 	q.RelativeChange = q.SenSlope * span / q.Median
 	return q

@@ -96,6 +96,15 @@ func printTrend(w io.Writer, rt rpt.RevisionTrend) {
 		fmt.Fprintf(w, "    frequency: least squares %s Hz/day [%s], Sen %s Hz/day (%s %% of the median per day), Mann-Kendall S %s, %s\n",
 			hz(f.Linear.Slope), fint(hz, f.Linear.SlopeCI95), hz(f.SenSlope), fnum("%+.2g", 100*f.RelativePerDay),
 			fnum("%.0f", f.MannKendall.S), pvalue(f.MannKendall.P))
+		for _, q := range []struct {
+			name string
+			sen  rpt.SenInfo
+		}{{"zeta", d.Sen}, {"frequency", f.Sen}} {
+			if q.sen.Sample > 0 {
+				fmt.Fprintf(w, "    Sen's slope of %s: median of %d random pairs of %d, at the %.2f %% point of all pair slopes (95 %% bound 50 +/- %.2f %%)\n",
+					q.name, q.sen.Sample, q.sen.Pairs, 100*q.sen.Rank, 100*q.sen.RankBound95)
+			}
+		}
 		if m.Warning != "" {
 			fmt.Fprintf(w, "    WARNING: %s\n", m.Warning)
 		}
