@@ -114,6 +114,14 @@ type Mode struct {
 	Estimates      []Estimate `json:"estimates"`          // all estimators, primary first
 	Dropped        bool       `json:"dropped,omitempty"`  // dropped by a rule; kept for the record
 	Label          string     `json:"label,omitempty"`    // expected-mode label when known
+	// AmplitudeDamping is the damping ratio against the amplitude along the
+	// decay, largest amplitude first; empty when the mode could not be
+	// isolated or its decay spans too little amplitude.
+	AmplitudeDamping []AmplitudeBin `json:"amplitude_damping"`
+	// MergedPoles > 0 says that the least-squares fit had split this mode's
+	// non-exponential decay into that many close poles, which were judged
+	// to be one mode and merged (friction, amplitude-dependent damping).
+	MergedPoles int `json:"merged_poles"`
 }
 
 // Estimate returns the estimate of the named method, if present.
@@ -148,6 +156,7 @@ type Result struct {
 	TriggerS        float64           `json:"trigger_s"`              // time of the impact from the record start
 	OnsetS          float64           `json:"onset_s"`                // start of the free decay the estimators used
 	WindowTauS      float64           `json:"window_tau_s,omitempty"` // exponential window corrected for
+	PeakForce       float64           `json:"peak_force"`             // peak of the force pulse above its baseline, force units; 0 without a force channel
 	Verdict         Verdict           `json:"verdict"`
 	Reasons         []Reason          `json:"reasons"`
 	Modes           []Mode            `json:"modes"`

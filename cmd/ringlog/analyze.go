@@ -173,6 +173,7 @@ func printResult(w io.Writer, r *pipeline.Result) {
 				i+1, m.FrequencyHz, 100*m.DampingRatio, 100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1],
 				m.Cycles, 100*m.Spread, strings.Join(cc, ", "), note)
 		}
+		printAmplitudeCurves(w, r)
 	} else {
 		fmt.Fprintln(w, "  no mode found")
 	}

@@ -64,8 +64,7 @@ func (NonViscous) Check(in Input, th Thresholds) []pipeline.Reason {
 			// diagnostics. Judge the envelope of the group instead.
 			d.ExpRSS, d.LinRSS, level = groupShape(in, i)
 		}
-		if finite(d.ExpRSS) && finite(d.LinRSS) && d.ExpRSS > 0 && d.LinRSS >= 0 && d.LinRSS < th.FrictionRSSRatio*d.ExpRSS &&
-			level <= th.FrictionMaxEndLevel {
+		if frictionShape(d.ExpRSS, d.LinRSS, level, th) {
 			out = append(out, pipeline.Reason{
 				Code:     CodeFrictionDecay,
 				Severity: pipeline.SeverityFlag,
@@ -75,8 +74,9 @@ func (NonViscous) Check(in Input, th Thresholds) []pipeline.Reason {
 					"hit's strength", modeName(m), pct(d.LinRSS/d.ExpRSS), pct(th.FrictionRSSRatio)),
 			})
 		}
+		// a mode with an amplitude curve is judged by AmplitudeDependence
 		e, l := d.ZetaEarly, d.ZetaLate
-		if finite(e) && finite(l) && e > 0 && l > 0 {
+		if len(m.AmplitudeDamping) < 2 && finite(e) && finite(l) && e > 0 && l > 0 {
 			if rel := math.Abs(e-l) / ((e + l) / 2); rel > th.MaxDampingDrift {
 				trend := "falls"
 				if l > e {
@@ -94,6 +94,20 @@ func (NonViscous) Check(in Input, th Thresholds) []pipeline.Reason {
 		}
 	}
 	return out
+}
+
+// frictionShape reports a straight-line envelope: the line fits better
+// than FrictionRSSRatio of the exponential's residual, over a fall to
+// FrictionMaxEndLevel of the start or lower.
+func frictionShape(expRSS, linRSS, level float64, th Thresholds) bool {
+	return finite(expRSS) && finite(linRSS) && expRSS > 0 && linRSS >= 0 && linRSS < th.FrictionRSSRatio*expRSS &&
+		level <= th.FrictionMaxEndLevel
+}
+
+// frictionLike reports whether NonViscous judges mode m friction from its
+// own envelope diagnostics.
+func frictionLike(m pipeline.Mode, d modal.ModeDiag, th Thresholds) bool {
+	return frictionShape(d.ExpRSS, d.LinRSS, endLevel(m, d), th)
 }
 
 // endLevel returns the fraction of its start that the mode's fitted

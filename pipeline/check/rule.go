@@ -57,6 +57,7 @@ func Rules() []Rule {
 		ShortDecay{},
 		SeveralModes{},
 		NonViscous{},
+		AmplitudeDependence{},
 		Disagreement{},
 	}
 }

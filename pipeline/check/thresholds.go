@@ -115,6 +115,19 @@ type Thresholds struct {
 	// start and the record end, so a tighter default flags good hits).
 	MaxDampingDrift float64 `toml:"max_damping_drift" json:"max_damping_drift"`
 
+	// --- amplitude_damping ---
+
+	// MaxAmplitudeDampingChange: largest relative change of a mode's damping
+	// ratio over the amplitudes its decay spans (Mode.AmplitudeDamping; a
+	// weighted line of the bins' damping ratios against the logarithm of
+	// their amplitude, the change over the range divided by the mean) before
+	// the mode is flagged; the change must also stand 3 standard errors
+	// from zero. Fraction, default 0.30 (our choice: hit-to-hit scatter of
+	// damping ratios is commonly 10-20 %, from memory, as for
+	// MaxEstimatorSpread; on viscous decays in noise the change stays
+	// within a few percent, see pipeline/check/amplitude_test.go).
+	MaxAmplitudeDampingChange float64 `toml:"max_amplitude_damping_change" json:"max_amplitude_damping_change"`
+
 	// --- estimates_disagree ---
 
 	// MaxEstimatorSpread: largest relative deviation of a cross-check
@@ -191,6 +204,8 @@ func DefaultThresholds() Thresholds {
 		FrictionMaxEndLevel: 0.5,
 		MaxDampingDrift:     0.50,
 
+		MaxAmplitudeDampingChange: 0.30,
+
 		MaxEstimatorSpread:  0.25,
 		HalfPowerFloorShare: 0.5,
 
@@ -247,6 +262,7 @@ func (t Thresholds) Validate() error {
 	frac("friction_rss_ratio", t.FrictionRSSRatio, true)
 	frac("friction_max_end_level", t.FrictionMaxEndLevel, false)
 	pos("max_damping_drift", t.MaxDampingDrift)
+	pos("max_amplitude_damping_change", t.MaxAmplitudeDampingChange)
 	pos("max_estimator_spread", t.MaxEstimatorSpread)
 	pos("halfpower_floor_share", t.HalfPowerFloorShare)
 	nonneg("min_mode_noise_ratio", t.MinModeNoiseRatio)

@@ -102,6 +102,7 @@ func Analyze(x []float64, fs float64, force []float64, opt Options) (*Decay, err
 	}
 	a.noise = math.Max(h.noise, 1e-12*h.peak)
 	a.run()
+	a.amplitudeCurves()
 	d.Modes, d.Diag = a.modes, a.diags
 	if a.nm != nil {
 		d.Noise = a.nm

@@ -128,6 +128,7 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 		return nil, fmt.Errorf("%s: channel %q: %w", rec.Path, resp.Name, err)
 	}
 	res.NoiseRMS = dec.NoiseRMS
+	res.PeakForce = modal.PeakForce(fs)
 	res.TriggerS = float64(dec.Trigger) / resp.SampleRate
 	res.OnsetS = float64(dec.Onset) / resp.SampleRate
 	res.Modes = append(res.Modes, dec.Modes...)
