@@ -416,21 +416,37 @@ func (a *analysis) filterWidth(lo, hi int, fd, pass, sigma float64, n int) (tw f
 }
 
 // mergeGroups finds runs of neighbouring modes that are not band-isolated
-// and closer than two half-power bandwidths, and merges each run whose
-// common envelope is that of one mode.
+// and closer than four half-power bandwidths (where the beating rule's
+// default begins), and merges each run, or the longest part of it around
+// its strongest mode, whose common envelope is that of one mode.
 func (a *analysis) mergeGroups(x0 []float64) {
 	for i := 0; i < len(a.modes); {
 		j := i
 		for j+1 < len(a.modes) && !a.diags[j].Isolated && !a.diags[j+1].Isolated {
 			p, q := a.modes[j], a.modes[j+1]
 			hp := 2 * math.Max(p.DampingRatio*p.FrequencyHz, q.DampingRatio*q.FrequencyHz)
-			if q.FrequencyHz-p.FrequencyHz >= 2*hp {
+			if q.FrequencyHz-p.FrequencyHz >= 4*hp {
 				break
 			}
 			j++
 		}
-		if j > i && a.mergeGroup(x0, i, j) {
-			i++ // the group is now one mode at i
+		lo, hi := i, j
+		merged := false
+		for hi > lo {
+			if a.mergeGroup(x0, lo, hi) {
+				merged = true
+				break
+			}
+			// drop the weaker end and try again
+			if a.modes[lo].EnergyShare < a.modes[hi].EnergyShare {
+				lo++
+			} else {
+				hi--
+			}
+		}
+		if merged {
+			// modes i..lo-1 stay; the group is now one mode at lo
+			i = lo + 1
 			continue
 		}
 		i = j + 1
