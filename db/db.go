@@ -29,17 +29,48 @@ var ErrNotFound = errors.New("not found")
 // through one connection, one immediate transaction at a time; queries use a
 // small pool of read-only connections.
 type DB struct {
-	path string
-	w    *sql.DB // the one writer connection
-	r    *sql.DB // read pool
+	path    string  // the file, or the PostgreSQL URL (it never holds a password)
+	w       *sql.DB // the one writer connection (PostgreSQL: the pool)
+	r       *sql.DB // read pool (PostgreSQL: the same pool)
+	dialect dialect // SQLite (the zero value) or PostgreSQL
+	pg      *pgState
 }
 
 // Open opens the history at path, creating the file when it does not exist
 // (its folder must exist), and applies the schema migrations it lacks. The
 // file must be on a local disk: Open fails when SQLite cannot put it in WAL
 // mode, as happens on many network shares.
+//
+// A target that is a postgres:// or postgresql:// URL opens the lab's
+// central history on a PostgreSQL server instead (see OpenWith).
 func Open(ctx context.Context, path string) (*DB, error) {
-	return openWith(ctx, path, migrationFS)
+	return OpenWith(ctx, path, Options{})
+}
+
+// Options are the settings of OpenWith beyond the target.
+type Options struct {
+	// PasswordFile, for PostgreSQL, is a file whose first line is the
+	// password; it must not be readable by group or others. Without it the
+	// password comes from the standard PostgreSQL environment (PGPASSWORD,
+	// PGPASSFILE or ~/.pgpass).
+	PasswordFile string
+	// AppName is the application_name the server shows for the
+	// connections; default "ringlog".
+	AppName string
+
+	readOnly bool // OpenReadOnly
+}
+
+// OpenWith opens the history at target: an SQLite file (as Open), or a
+// PostgreSQL server given as a postgres:// URL, whose query part passes
+// TLS and other settings through (sslmode, sslrootcert, sslcert, sslkey,
+// connect_timeout, search_path, ...). The URL must not carry a password.
+// The schema and its migrations are the same on both.
+func OpenWith(ctx context.Context, target string, o Options) (*DB, error) {
+	if IsPostgres(target) {
+		return openPostgres(ctx, target, o, migrationFS)
+	}
+	return openWith(ctx, target, migrationFS)
 }
 
 func openWith(ctx context.Context, path string, migrations fs.FS) (*DB, error) {
@@ -81,7 +112,7 @@ func openWith(ctx context.Context, path string, migrations fs.FS) (*DB, error) {
 		return fail(fmt.Errorf("database %s: SQLite could not switch it to WAL mode (journal mode is %q); "+
 			"the database must be on a local disk, not a network share", abs, mode))
 	}
-	if err := migrate(ctx, w, migrations); err != nil {
+	if err := migrate(ctx, w, migrations, sqliteDialect); err != nil {
 		return fail(fmt.Errorf("database %s: %w", abs, err))
 	}
 
@@ -106,7 +137,12 @@ var ErrReadOnly = errors.New("the history was opened read-only")
 // on a read-only copy and beside a running daemon. A missing file, a file
 // that is not a ringlog history (an empty file included) and a history
 // whose schema differs from this build's are errors that say what to do.
+//
+// A PostgreSQL URL opens the lab's history with read-only sessions.
 func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
+	if IsPostgres(path) {
+		return openPostgres(ctx, path, Options{readOnly: true}, migrationFS)
+	}
 	if path == "" {
 		return nil, errors.New("database: no path given")
 	}
@@ -270,12 +306,19 @@ func describe(err error) error {
 	return err
 }
 
-// Path returns the absolute path of the database file.
+// Path returns the absolute path of the database file, or the URL of the
+// PostgreSQL history.
 func (db *DB) Path() string { return db.path }
+
+// Postgres reports whether the history is on a PostgreSQL server.
+func (db *DB) Postgres() bool { return db.dialect == postgresDialect }
 
 // Close closes the read pool and the writer. SQLite checkpoints the WAL
 // into the database file when the last connection closes.
 func (db *DB) Close() error {
+	if db.dialect == postgresDialect {
+		return db.closePostgres()
+	}
 	var errs []error
 	if db.r != nil {
 		errs = append(errs, db.r.Close())
@@ -294,7 +337,15 @@ func (db *DB) Close() error {
 
 // IntegrityCheck runs PRAGMA integrity_check and returns its output, "ok"
 // for a sound database, otherwise one problem per line.
+// PostgreSQL checks its own pages; there the answer is "ok" once the
+// server answers.
 func (db *DB) IntegrityCheck(ctx context.Context) (string, error) {
+	if db.dialect == postgresDialect {
+		if err := db.r.PingContext(ctx); err != nil {
+			return "", fmt.Errorf("database %s: integrity check: %w", db.path, err)
+		}
+		return "ok", nil
+	}
 	rows, err := db.r.QueryContext(ctx, "PRAGMA integrity_check")
 	if err != nil {
 		return "", fmt.Errorf("database %s: integrity check: %w", db.path, err)
@@ -336,7 +387,11 @@ func (db *DB) write(ctx context.Context, what string, fn func(tx *sql.Tx) error)
 // read runs fn in one read transaction (one consistent snapshot) on the
 // read pool.
 func (db *DB) read(ctx context.Context, what string, fn func(tx *sql.Tx) error) error {
-	tx, err := db.r.BeginTx(ctx, &sql.TxOptions{ReadOnly: true})
+	opt := &sql.TxOptions{ReadOnly: true}
+	if db.dialect == postgresDialect {
+		opt.Isolation = sql.LevelRepeatableRead // one snapshot for all the statements, as in SQLite
+	}
+	tx, err := db.r.BeginTx(ctx, opt)
 	if err != nil {
 		return fmt.Errorf("database %s: %s: %w", db.path, what, describe(err))
 	}

@@ -23,7 +23,7 @@ func userVersion(t *testing.T, d *DB) int {
 }
 
 func TestOpenSetsPragmas(t *testing.T) {
-	d := openTemp(t)
+	d := openSQLite(t)
 	ctx := context.Background()
 	var mode string
 	var sync, fk, busy int
@@ -273,7 +273,7 @@ func TestIntegrityCheck(t *testing.T) {
 // lookups search an index instead of scanning a table
 // (sqlite.org/eqp.html: "SEARCH ... USING INDEX" versus "SCAN").
 func TestQueriesUseIndexes(t *testing.T) {
-	d := openTemp(t)
+	d := openSQLite(t)
 	for _, c := range []struct {
 		query string
 		args  []any

@@ -177,11 +177,11 @@ func (db *DB) MarkPending(ctx context.Context, fi FileInfo) error {
 INSERT INTO files (path, size, mtime, sha256, state, attempts, last_error, first_seen, updated)
 VALUES (?1, ?2, ?3, ?4, 'pending', 0, '', ?5, ?5)
 ON CONFLICT (path) DO UPDATE SET
-    attempts   = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN attempts ELSE 0 END,
-    last_error = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN last_error ELSE '' END,
-    hit_id     = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN hit_id ELSE NULL END,
+    attempts   = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.attempts ELSE 0 END,
+    last_error = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.last_error ELSE '' END,
+    hit_id     = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.hit_id ELSE NULL END,
     sha256     = CASE WHEN excluded.sha256 <> '' THEN excluded.sha256
-                      WHEN size = excluded.size AND mtime = excluded.mtime THEN sha256 ELSE '' END,
+                      WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.sha256 ELSE '' END,
     size       = excluded.size,
     mtime      = excluded.mtime,
     state      = 'pending',
@@ -214,10 +214,10 @@ func (db *DB) RecordFailure(ctx context.Context, fi FileInfo, cause error, final
 INSERT INTO files (path, size, mtime, sha256, state, attempts, last_error, first_seen, updated)
 VALUES (?1, ?2, ?3, ?4, ?5, 1, ?6, ?7, ?7)
 ON CONFLICT (path) DO UPDATE SET
-    attempts   = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN attempts + 1 ELSE 1 END,
-    hit_id     = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN hit_id ELSE NULL END,
+    attempts   = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.attempts + 1 ELSE 1 END,
+    hit_id     = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.hit_id ELSE NULL END,
     sha256     = CASE WHEN excluded.sha256 <> '' THEN excluded.sha256
-                      WHEN size = excluded.size AND mtime = excluded.mtime THEN sha256 ELSE '' END,
+                      WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.sha256 ELSE '' END,
     size       = excluded.size,
     mtime      = excluded.mtime,
     state      = excluded.state,

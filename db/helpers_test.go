@@ -4,16 +4,74 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
+	"fmt"
+	"os"
+	"os/exec"
 	"path/filepath"
 	"runtime"
 	"testing"
 	"time"
 
+	"github.com/ringlog/ringlog/db/pgtest"
 	"github.com/ringlog/ringlog/pipeline"
 )
 
-// openTemp opens a fresh database in a temporary folder.
+// backendEnv names the backend the db suite runs on: sqlite (the first
+// pass) or postgres (the second pass, see TestMain).
+const backendEnv = "RINGLOG_TEST_BACKEND"
+
+// TestMain runs the suite on SQLite and then, when a PostgreSQL test
+// server is configured (RINGLOG_TEST_POSTGRES, which .ci/run always sets),
+// once more with openTemp giving PostgreSQL histories: every test written
+// with openTemp runs on both backends.
+func TestMain(m *testing.M) {
+	first := os.Getenv(backendEnv) == ""
+	if first {
+		os.Setenv(backendEnv, "sqlite") // child processes of tests stay in this pass
+	}
+	code := m.Run()
+	if !first {
+		os.Exit(code)
+	}
+	if !pgtest.Available() {
+		fmt.Println("db: " + pgtest.EnvURL + " is not set: the suite ran on SQLite only, PostgreSQL skipped")
+		os.Exit(code)
+	}
+	fmt.Println("db: the suite again on PostgreSQL (" + pgtest.EnvURL + ")")
+	cmd := exec.Command(os.Args[0], os.Args[1:]...)
+	cmd.Env = append(os.Environ(), backendEnv+"=postgres")
+	cmd.Stdout, cmd.Stderr = os.Stdout, os.Stderr
+	if err := cmd.Run(); err != nil && code == 0 {
+		code = 1
+	}
+	os.Exit(code)
+}
+
+// onPostgres reports whether this pass runs on PostgreSQL.
+func onPostgres() bool { return os.Getenv(backendEnv) == "postgres" }
+
+// openTemp opens a fresh history: an SQLite file in a temporary folder,
+// or in the PostgreSQL pass a fresh schema on the test server.
 func openTemp(t testing.TB) *DB {
+	t.Helper()
+	if onPostgres() {
+		d, err := Open(context.Background(), pgtest.URL(t))
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(func() {
+			if err := d.Close(); err != nil {
+				t.Error(err)
+			}
+		})
+		return d
+	}
+	return openSQLite(t)
+}
+
+// openSQLite opens a fresh SQLite history in a temporary folder, for the
+// tests of what only SQLite has (pragmas, files, the lock file).
+func openSQLite(t testing.TB) *DB {
 	t.Helper()
 	d, err := Open(context.Background(), filepath.Join(t.TempDir(), "history.sqlite"))
 	if err != nil {

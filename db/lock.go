@@ -26,12 +26,25 @@ type LockedError struct {
 	LockFile string    // the side file holding the lock
 	PID      int       // the holder's process id; 0 when it could not be read
 	Since    time.Time // when the holder took the lock; zero when unknown
+	// Bay and Host are set for the bay lock of a PostgreSQL history.
+	Bay, Host string
 }
 
 func (e *LockedError) Error() string {
 	who := "another process (pid unknown)"
 	if e.PID > 0 {
 		who = "process " + strconv.Itoa(e.PID)
+	}
+	if e.Host != "" {
+		who += " on " + e.Host
+	}
+	if e.Bay != "" {
+		since := ""
+		if !e.Since.IsZero() {
+			since = " since " + e.Since.Format("2006-01-02 15:04:05 MST")
+		}
+		return fmt.Sprintf("%v: bay %q of %s is recorded by %s%s; stop that ringlog daemon first, "+
+			"or give this one another bay name", ErrLocked, e.Bay, e.Path, who, since)
 	}
 	since := ""
 	if !e.Since.IsZero() {
@@ -55,6 +68,9 @@ func LockFile(path string) string { return path + ".lock" }
 // in this process or another, gets a *LockedError wrapping ErrLocked.
 // release drops the lock; calling it more than once is harmless.
 func (db *DB) LockWriter() (release func() error, err error) {
+	if db.dialect == postgresDialect {
+		return nil, fmt.Errorf("database %s: a PostgreSQL history is locked per bay (LockBay), not per file", db.path)
+	}
 	return lockWriter(db.path)
 }
 

@@ -149,7 +149,7 @@ func TestLockWriterTwoProcesses(t *testing.T) {
 }
 
 func TestLockWriterSameProcess(t *testing.T) {
-	d := openTemp(t)
+	d := openSQLite(t)
 	if held, _, _, err := HolderInfo(d.Path()); held || err != nil {
 		t.Errorf("HolderInfo before any lock: %v %v", held, err)
 	}

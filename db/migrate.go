@@ -10,6 +10,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"time"
 )
 
 // migrationFS holds the schema migrations, applied in order of their
@@ -67,29 +68,51 @@ func SchemaVersion() int {
 }
 
 // migrate applies the migrations the database lacks, each in its own
-// immediate transaction together with the PRAGMA user_version that records
-// it, so a failed migration leaves the database as it was.
-func migrate(ctx context.Context, w *sql.DB, fsys fs.FS) error {
+// transaction together with the record of the schema version (PRAGMA
+// user_version on SQLite, the schema_version table on PostgreSQL), so a
+// failed migration leaves the database as it was. Every migration must be
+// portable (checkPortable); on PostgreSQL it is translated (translate).
+func migrate(ctx context.Context, w *sql.DB, fsys fs.FS, d dialect) error {
 	ms, err := loadMigrations(fsys)
 	if err != nil {
 		return err
 	}
 	for _, m := range ms {
-		if err := applyMigration(ctx, w, m, len(ms)); err != nil {
+		if err := checkPortable(m.name, m.sql); err != nil {
+			return err
+		}
+	}
+	for _, m := range ms {
+		if err := applyMigration(ctx, w, m, len(ms), d); err != nil {
 			return err
 		}
 	}
 	return nil
 }
 
-func applyMigration(ctx context.Context, w *sql.DB, m migration, latest int) error {
-	tx, err := w.BeginTx(ctx, nil) // BEGIN IMMEDIATE: no other process migrates meanwhile
+// migrationLockKey is the PostgreSQL advisory lock that keeps two
+// processes from migrating the same database at once (any 64-bit number
+// of our own; "ringlog" in ASCII).
+const migrationLockKey = 0x72696e676c6f67
+
+func applyMigration(ctx context.Context, w *sql.DB, m migration, latest int, d dialect) error {
+	tx, err := w.BeginTx(ctx, nil) // SQLite: BEGIN IMMEDIATE, no other process migrates meanwhile
 	if err != nil {
 		return fmt.Errorf("migration %s: %w", m.name, describe(err))
 	}
 	defer tx.Rollback()
-	var have int
-	if err := tx.QueryRowContext(ctx, "PRAGMA user_version").Scan(&have); err != nil {
+	if d == postgresDialect {
+		// Held until the transaction ends; a second daemon waits here and
+		// then finds the migration applied.
+		if _, err := tx.ExecContext(ctx, "SELECT pg_advisory_xact_lock(?)", int64(migrationLockKey)); err != nil {
+			return fmt.Errorf("migration %s: taking the migration lock: %w", m.name, err)
+		}
+		if _, err := tx.ExecContext(ctx, "CREATE TABLE IF NOT EXISTS schema_version (version BIGINT NOT NULL PRIMARY KEY, applied_at BIGINT NOT NULL)"); err != nil {
+			return fmt.Errorf("migration %s: schema_version table: %w", m.name, err)
+		}
+	}
+	have, err := d.schemaVersion(ctx, tx)
+	if err != nil {
 		return fmt.Errorf("reading schema version: %w", describe(err))
 	}
 	if have > latest {
@@ -101,11 +124,16 @@ func applyMigration(ctx context.Context, w *sql.DB, m migration, latest int) err
 	if have != m.version-1 {
 		return fmt.Errorf("migration %s: schema version is %d, expected %d", m.name, have, m.version-1)
 	}
-	if _, err := tx.ExecContext(ctx, m.sql); err != nil {
+	if _, err := tx.ExecContext(ctx, translate(d, m.sql)); err != nil {
 		return fmt.Errorf("migration %s: %w", m.name, err)
 	}
-	// PRAGMA takes no bound parameters; the version is our own integer.
-	if _, err := tx.ExecContext(ctx, "PRAGMA user_version = "+strconv.Itoa(m.version)); err != nil {
+	if d == postgresDialect {
+		_, err = tx.ExecContext(ctx, "INSERT INTO schema_version (version, applied_at) VALUES (?, ?)", m.version, time.Now().UnixNano())
+	} else {
+		// PRAGMA takes no bound parameters; the version is our own integer.
+		_, err = tx.ExecContext(ctx, "PRAGMA user_version = "+strconv.Itoa(m.version))
+	}
+	if err != nil {
 		return fmt.Errorf("migration %s: setting schema version: %w", m.name, err)
 	}
 	if err := tx.Commit(); err != nil {

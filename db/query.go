@@ -442,7 +442,8 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 		case !errors.Is(err, sql.ErrNoRows):
 			return err
 		}
-		return tx.QueryRowContext(ctx, "PRAGMA user_version").Scan(&st.Schema)
+		st.Schema, err = db.dialect.schemaVersion(ctx, tx)
+		return err
 	})
 	if err != nil {
 		return Status{}, err

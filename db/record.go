@@ -78,47 +78,54 @@ func (db *DB) RecordResult(ctx context.Context, fi FileInfo, meta HitMeta, res *
 	}
 
 	err = db.write(ctx, "record result of "+fi.Path, func(tx *sql.Tx) error {
-		out = Outcome{}
-		var firstPath string
-		err := tx.QueryRowContext(ctx, "SELECT id, first_path FROM hits WHERE sha256 = ?", fi.SHA256).Scan(&out.HitID, &firstPath)
-		switch {
-		case err == nil:
-			if err := tx.QueryRowContext(ctx, "SELECT id FROM results WHERE hit_id = ? AND superseded = 0", out.HitID).
-				Scan(&out.ResultID); err != nil {
-				return fmt.Errorf("current result of hit %d: %w", out.HitID, err)
+		// Two writers may store the same bytes at once (two bays of one
+		// PostgreSQL history): the insert then finds the other's hit, and
+		// the second pass records this file as its duplicate.
+		for pass := 0; ; pass++ {
+			out = Outcome{}
+			var firstPath string
+			err := tx.QueryRowContext(ctx, "SELECT id, first_path FROM hits WHERE sha256 = ?", fi.SHA256).Scan(&out.HitID, &firstPath)
+			switch {
+			case err == nil:
+				if err := tx.QueryRowContext(ctx, "SELECT id FROM results WHERE hit_id = ? AND superseded = 0", out.HitID).
+					Scan(&out.ResultID); err != nil {
+					return fmt.Errorf("current result of hit %d: %w", out.HitID, err)
+				}
+				state := StateDuplicate
+				if firstPath == fi.Path {
+					state, out.Repeat = StateAnalysed, true
+				} else {
+					out.Duplicate = true
+				}
+				return upsertFile(ctx, tx, fi, state, out.HitID, now)
+			case !errors.Is(err, sql.ErrNoRows):
+				return err
 			}
-			state := StateDuplicate
-			if firstPath == fi.Path {
-				state, out.Repeat = StateAnalysed, true
-			} else {
-				out.Duplicate = true
-			}
-			return upsertFile(ctx, tx, fi, state, out.HitID, now)
-		case !errors.Is(err, sql.ErrNoRows):
-			return err
-		}
 
-		analysisID, err := analysisID(ctx, tx, res.AnalysisVersion, settingsJSON, now)
-		if err != nil {
-			return err
-		}
-		r, err := tx.ExecContext(ctx, `
+			analysisID, err := analysisID(ctx, tx, res.AnalysisVersion, settingsJSON, now)
+			if err != nil {
+				return err
+			}
+			err = tx.QueryRowContext(ctx, `
 INSERT INTO hits (sha256, first_path, prototype, revision, bay, point, direction, hit_time, meta,
                   format, channel, force_channel, sample_rate, duration, noise_rms, verdict, analysis_id, ingested_at)
-VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-			fi.SHA256, fi.Path, meta.Prototype, meta.Revision, meta.Bay, meta.Point, meta.Direction, toNS(hitTime), extra,
-			res.Format, res.Channel, res.ForceChannel, sqlReal(res.SampleRate), sqlReal(res.DurationS), sqlReal(res.NoiseRMS),
-			string(res.Verdict), analysisID, toNS(now))
-		if err != nil {
-			return fmt.Errorf("inserting hit: %w", err)
+VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+ON CONFLICT (sha256) DO NOTHING
+RETURNING id`,
+				fi.SHA256, fi.Path, meta.Prototype, meta.Revision, meta.Bay, meta.Point, meta.Direction, toNS(hitTime), extra,
+				res.Format, res.Channel, res.ForceChannel, sqlReal(res.SampleRate), sqlReal(res.DurationS), sqlReal(res.NoiseRMS),
+				string(res.Verdict), analysisID, toNS(now)).Scan(&out.HitID)
+			if errors.Is(err, sql.ErrNoRows) && pass == 0 {
+				continue // stored meanwhile by another writer
+			}
+			if err != nil {
+				return fmt.Errorf("inserting hit: %w", err)
+			}
+			if out.ResultID, err = insertResult(ctx, tx, out.HitID, analysisID, res, now); err != nil {
+				return err
+			}
+			return upsertFile(ctx, tx, fi, StateAnalysed, out.HitID, now)
 		}
-		if out.HitID, err = r.LastInsertId(); err != nil {
-			return err
-		}
-		if out.ResultID, err = insertResult(ctx, tx, out.HitID, analysisID, res, now); err != nil {
-			return err
-		}
-		return upsertFile(ctx, tx, fi, StateAnalysed, out.HitID, now)
 	})
 	if err != nil {
 		return Outcome{}, err
@@ -190,7 +197,7 @@ func upsertFile(ctx context.Context, tx *sql.Tx, fi FileInfo, state State, hitID
 INSERT INTO files (path, size, mtime, sha256, state, attempts, last_error, first_seen, updated, hit_id)
 VALUES (?1, ?2, ?3, ?4, ?5, 0, '', ?6, ?6, ?7)
 ON CONFLICT (path) DO UPDATE SET
-    attempts   = CASE WHEN size = excluded.size AND mtime = excluded.mtime THEN attempts ELSE 0 END,
+    attempts   = CASE WHEN files.size = excluded.size AND files.mtime = excluded.mtime THEN files.attempts ELSE 0 END,
     size       = excluded.size,
     mtime      = excluded.mtime,
     sha256     = excluded.sha256,
@@ -212,19 +219,28 @@ func analysisID(ctx context.Context, tx *sql.Tx, version, settings string, now t
 		version = pipeline.AnalysisVersion
 	}
 	var id int64
-	err := tx.QueryRowContext(ctx, "SELECT id FROM analyses WHERE analysis_version = ? AND settings = ?", version, settings).Scan(&id)
-	if err == nil {
+	for pass := 0; ; pass++ {
+		err := tx.QueryRowContext(ctx, "SELECT id FROM analyses WHERE analysis_version = ? AND settings = ?", version, settings).Scan(&id)
+		if err == nil {
+			return id, nil
+		}
+		if !errors.Is(err, sql.ErrNoRows) {
+			return 0, err
+		}
+		// Another writer (another bay) may insert the same row meanwhile:
+		// then nothing is inserted here and the next pass finds it.
+		err = tx.QueryRowContext(ctx, `
+INSERT INTO analyses (analysis_version, settings, created_at) VALUES (?, ?, ?)
+ON CONFLICT (analysis_version, settings) DO NOTHING
+RETURNING id`, version, settings, toNS(now)).Scan(&id)
+		if errors.Is(err, sql.ErrNoRows) && pass == 0 {
+			continue
+		}
+		if err != nil {
+			return 0, fmt.Errorf("inserting analysis: %w", err)
+		}
 		return id, nil
 	}
-	if !errors.Is(err, sql.ErrNoRows) {
-		return 0, err
-	}
-	r, err := tx.ExecContext(ctx, "INSERT INTO analyses (analysis_version, settings, created_at) VALUES (?, ?, ?)",
-		version, settings, toNS(now))
-	if err != nil {
-		return 0, fmt.Errorf("inserting analysis: %w", err)
-	}
-	return r.LastInsertId()
 }
 
 // insertResult stores res with its modes, estimates and reasons as a
@@ -234,24 +250,23 @@ func insertResult(ctx context.Context, tx *sql.Tx, hitID, analysisID int64, res 
 	if err != nil {
 		return 0, fmt.Errorf("result metadata: %w", err)
 	}
-	r, err := tx.ExecContext(ctx, `
+	var resultID int64
+	err = tx.QueryRowContext(ctx, `
 INSERT INTO results (hit_id, analysis_id, verdict, superseded, file, format, channel, force_channel,
                      sample_rate, duration, noise_rms, window_tau, meta, created_at)
-VALUES (?, ?, ?, 0, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+VALUES (?, ?, ?, 0, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+RETURNING id`,
 		hitID, analysisID, string(res.Verdict), res.File, res.Format, res.Channel, res.ForceChannel,
-		sqlReal(res.SampleRate), sqlReal(res.DurationS), sqlReal(res.NoiseRMS), sqlReal(res.WindowTauS), meta, toNS(now))
+		sqlReal(res.SampleRate), sqlReal(res.DurationS), sqlReal(res.NoiseRMS), sqlReal(res.WindowTauS), meta, toNS(now)).Scan(&resultID)
 	if err != nil {
 		return 0, fmt.Errorf("inserting result: %w", err)
-	}
-	resultID, err := r.LastInsertId()
-	if err != nil {
-		return 0, err
 	}
 	modeStmt, err := tx.PrepareContext(ctx, `
 INSERT INTO modes (result_id, idx, label, frequency_hz, frequency_ci_low, frequency_ci_high,
                    damping_ratio, damping_ratio_ci_low, damping_ratio_ci_high, damping_ratio_sd,
                    amplitude, energy_share, cycles, snr_db, spread, dropped)
-VALUES (?, ?, NULLIF(?, ''), ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
+VALUES (?, ?, NULLIF(?, ''), ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+RETURNING id`)
 	if err != nil {
 		return 0, err
 	}
@@ -263,16 +278,13 @@ INSERT INTO estimates (mode_id, idx, method, frequency_hz, damping_ratio, note) 
 	}
 	defer estStmt.Close()
 	for i, m := range res.Modes {
-		r, err := modeStmt.ExecContext(ctx, resultID, i, m.Label,
+		var modeID int64
+		err := modeStmt.QueryRowContext(ctx, resultID, i, m.Label,
 			sqlReal(m.FrequencyHz), sqlReal(m.FrequencyCI95[0]), sqlReal(m.FrequencyCI95[1]),
 			sqlReal(m.DampingRatio), sqlReal(m.DampingRatioCI[0]), sqlReal(m.DampingRatioCI[1]), sqlReal(m.DampingRatioSD),
-			sqlReal(m.Amplitude), sqlReal(m.EnergyShare), sqlReal(m.Cycles), sqlReal(m.DecaySNRdB), sqlReal(m.Spread), m.Dropped)
+			sqlReal(m.Amplitude), sqlReal(m.EnergyShare), sqlReal(m.Cycles), sqlReal(m.DecaySNRdB), sqlReal(m.Spread), m.Dropped).Scan(&modeID)
 		if err != nil {
 			return 0, fmt.Errorf("inserting mode %d: %w", i, err)
-		}
-		modeID, err := r.LastInsertId()
-		if err != nil {
-			return 0, err
 		}
 		for j, e := range m.Estimates {
 			if _, err := estStmt.ExecContext(ctx, modeID, j, e.Method, sqlReal(e.FrequencyHz), sqlReal(e.DampingRatio), e.Note); err != nil {

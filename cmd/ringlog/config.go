@@ -15,6 +15,7 @@ import (
 
 	"github.com/ringlog/ringlog/pipeline"
 
+	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/process"
 )
@@ -157,7 +158,9 @@ func (c *Config) validate() error {
 		}
 		return filepath.Join(dir, p)
 	}
-	c.Database = abs(c.Database)
+	if !db.IsPostgres(c.Database) {
+		c.Database = abs(c.Database)
+	}
 	c.LogFile = abs(c.LogFile)
 	c.Report.Folder = abs(c.Report.Folder)
 	for i := range c.Folders {

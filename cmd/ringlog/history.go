@@ -71,6 +71,9 @@ func openExisting(ctx context.Context, path string) (*db.DB, error) {
 // openExistingWritable opens a database that must already exist for a
 // command that writes to it (reanalyze, exclude).
 func openExistingWritable(ctx context.Context, path string) (*db.DB, error) {
+	if db.IsPostgres(path) {
+		return db.Open(ctx, path)
+	}
 	if _, err := os.Stat(path); errors.Is(err, fs.ErrNotExist) {
 		return nil, fmt.Errorf("database %s does not exist (run 'ringlog ingest' or 'ringlog watch' first)", path)
 	}

@@ -40,13 +40,30 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	held, pid, since, herr := db.HolderInfo(path)
+	var held bool
+	var pid int
+	var since time.Time
+	var herr error
+	var bays []db.BayHolder
+	if store.Postgres() {
+		// A lab history: one daemon per bay, each holding its bay's lock.
+		bays, herr = store.BayHolders(ctx)
+		held = len(bays) > 0
+	} else {
+		held, pid, since, herr = db.HolderInfo(path)
+	}
 	if *asJSON {
 		out := map[string]any{
 			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "verdicts": st.Verdicts,
 			"daemon_running": held, "schema": st.Schema,
 		}
-		if held {
+		if store.Postgres() {
+			list := []map[string]any{}
+			for _, b := range bays {
+				list = append(list, map[string]any{"bay": b.Bay, "pid": b.PID, "host": b.Host, "since": b.Since})
+			}
+			out["bay_daemons"] = list
+		} else if held {
 			out["daemon_pid"] = pid
 			if !since.IsZero() {
 				out["daemon_since"] = since
@@ -61,8 +78,15 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 		writeJSONLine(e.stdout, out)
 		return nil
 	}
-	fmt.Fprintf(e.stdout, "database  %s\n", path)
+	fmt.Fprintf(e.stdout, "database  %s\n", store.Path())
 	switch {
+	case store.Postgres() && herr == nil:
+		if len(bays) == 0 {
+			fmt.Fprintf(e.stdout, "daemons   none recording\n")
+		}
+		for _, b := range bays {
+			fmt.Fprintf(e.stdout, "daemon    bay %s: pid %d on %s, since %s\n", b.Bay, b.PID, b.Host, b.Since.Local().Format(time.DateTime))
+		}
 	case herr != nil:
 		fmt.Fprintf(e.stdout, "daemon    unknown (%v)\n", herr)
 	case held:
