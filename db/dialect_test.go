@@ -186,3 +186,34 @@ func TestBayLock(t *testing.T) {
 	l2.Release()
 	l3.Release()
 }
+
+func TestPostgresReadOnly(t *testing.T) {
+	if !onPostgres() {
+		t.Skip("runs in the PostgreSQL pass")
+	}
+	u := pgtest.URL(t)
+	ctx := context.Background()
+	if _, err := OpenReadOnly(ctx, u); err == nil || !strings.Contains(err.Error(), "not a ringlog history") {
+		t.Errorf("OpenReadOnly of an empty schema: %v", err)
+	}
+	w, err := Open(ctx, u)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := w.RecordResult(ctx, fileInfo("/e/a.csv", "a", t0), HitMeta{Bay: "bay-2"}, sampleResult("/e/a.csv"), nil); err != nil {
+		t.Fatal(err)
+	}
+	w.Close()
+	r, err := OpenReadOnly(ctx, u)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	hits, err := r.Hits(ctx, Filter{})
+	if err != nil || len(hits) != 1 || hits[0].Meta.Bay != "bay-2" {
+		t.Fatalf("Hits = %v, %v", hits, err)
+	}
+	if _, err := r.RecordResult(ctx, fileInfo("/e/b.csv", "b", t0), HitMeta{}, sampleResult("/e/b.csv"), nil); !errors.Is(err, ErrReadOnly) {
+		t.Errorf("a write through OpenReadOnly: %v, want ErrReadOnly", err)
+	}
+}
