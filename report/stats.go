@@ -108,9 +108,20 @@ func GeometricMean(x []float64) (gm float64, ci [2]float64) {
 	return math.Exp(m), [2]float64{math.Exp(m - h), math.Exp(m + h)}
 }
 
+// BootstrapMaxDraws bounds the values one bootstrap resample draws: up
+// to it a resample draws n values from the n (the plain percentile
+// bootstrap); beyond, it draws BootstrapMaxDraws values and its mean's
+// deviation from the sample mean is scaled by sqrt(BootstrapMaxDraws/n)
+// (the rescaled m-out-of-n bootstrap, consistent for the mean), so an
+// interval costs at most BootstrapResamples * BootstrapMaxDraws draws
+// whatever the size of the history.
+const BootstrapMaxDraws = 500
+
 // BootstrapMeanCI returns the percentile bootstrap 95 % interval of the
 // mean of x from the given number of resamples, drawn with a PCG generator
-// seeded by seed: the same x and seed give the same interval.
+// seeded by seed: the same x and seed give the same interval. Beyond
+// BootstrapMaxDraws values each resample draws BootstrapMaxDraws of them,
+// rescaled (see BootstrapMaxDraws).
 func BootstrapMeanCI(x []float64, resamples int, seed uint64) [2]float64 {
 	if len(x) == 0 || resamples <= 0 {
 		return nan2
@@ -118,12 +129,20 @@ func BootstrapMeanCI(x []float64, resamples int, seed uint64) [2]float64 {
 	r := rand.New(rand.NewPCG(seed, uint64(len(x))))
 	means := make([]float64, resamples)
 	n := len(x)
+	m := min(n, BootstrapMaxDraws)
 	for b := range means {
 		sum := 0.0
-		for range n {
+		for range m {
 			sum += x[r.IntN(n)]
 		}
-		means[b] = sum / float64(n)
+		means[b] = sum / float64(m)
+	}
+	if m < n {
+		mean := stat.Mean(x, nil)
+		scale := math.Sqrt(float64(m) / float64(n))
+		for b, v := range means {
+			means[b] = mean + scale*(v-mean)
+		}
 	}
 	sort.Float64s(means)
 	a := (1 - Level) / 2

@@ -95,6 +95,29 @@ func TestBootstrapDeterministic(t *testing.T) {
 	near(t, "bootstrap high", s.BootstrapCI95[1], s.MeanCI95[1], 0.15*half)
 }
 
+// TestBootstrapLargeSample: beyond BootstrapMaxDraws values the rescaled
+// m-out-of-n interval still matches the Student t interval of the mean
+// (same tolerance and reasoning as TestBootstrapDeterministic), for normal
+// data and, shifted by the skew as the percentile interval is, for
+// exponential data.
+func TestBootstrapLargeSample(t *testing.T) {
+	r := rand.New(rand.NewPCG(8, 8))
+	for _, dist := range []string{"normal", "exponential"} {
+		x := make([]float64, 20000)
+		for i := range x {
+			if dist == "normal" {
+				x[i] = 0.02 + 0.003*r.NormFloat64()
+			} else {
+				x[i] = 0.01 * r.ExpFloat64()
+			}
+		}
+		s := Describe(x)
+		half := (s.MeanCI95[1] - s.MeanCI95[0]) / 2
+		near(t, dist+" bootstrap low", s.BootstrapCI95[0], s.MeanCI95[0], 0.15*half)
+		near(t, dist+" bootstrap high", s.BootstrapCI95[1], s.MeanCI95[1], 0.15*half)
+	}
+}
+
 // TestHitsNeeded: n = 2 (z_0.975 + z_0.8)^2 / d^2 with d = ln(ratio)/sdLog;
 // for d = 1 that is 15.7, rounded up to 16 (Lehr's rule of thumb 16/d^2,
 // from memory), for d = 0.5 62.8 -> 63.
