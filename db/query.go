@@ -27,6 +27,9 @@ type Filter struct {
 	Verdicts []pipeline.Verdict
 	// Limit caps the number of hits returned (the oldest first); 0 is no cap.
 	Limit int
+	// ForStats loads only what the statistics read (see statsHits): no
+	// estimates, intervals, reason messages or metadata.
+	ForStats bool
 }
 
 // Hit is one stored hit with its current result.
@@ -110,6 +113,9 @@ func placeholders(n int) string {
 // Hits returns the hits f selects, oldest hit time first, each with its
 // current result. Duplicate files are not hits.
 func (db *DB) Hits(ctx context.Context, f Filter) ([]Hit, error) {
+	if f.ForStats {
+		return db.statsHits(ctx, f)
+	}
 	var hits []Hit
 	err := db.read(ctx, "querying hits", func(tx *sql.Tx) error {
 		where, args := f.where()

@@ -90,6 +90,7 @@ func expectedModes(cfg *Config, prototype string) []rpt.Expected {
 // here) selects; with revisions, only those revisions.
 func (s *reportSource) hits(ctx context.Context, f db.Filter, revisions ...string) ([]db.Hit, error) {
 	f.Prototype = s.prototype
+	f.ForStats = true
 	hits, err := s.store.Hits(ctx, f)
 	if err != nil {
 		return nil, err

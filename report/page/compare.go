@@ -61,7 +61,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 	if opt.Now.IsZero() {
 		opt.Now = time.Now()
 	}
-	all, err := src.Hits(ctx, db.Filter{Prototype: opt.Prototype})
+	all, err := src.Hits(ctx, db.Filter{Prototype: opt.Prototype, ForStats: true})
 	if err != nil {
 		return CompareSummary{}, err
 	}

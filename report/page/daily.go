@@ -349,7 +349,7 @@ type modeRow struct {
 // is the same whenever it is written.
 func prototypeView(ctx context.Context, src Source, proto string, since, until time.Time, opt DailyOptions) (protoView, error) {
 	pv := protoView{Name: orNone(proto)}
-	hits, err := src.Hits(ctx, db.Filter{Prototype: proto, Until: until})
+	hits, err := src.Hits(ctx, db.Filter{Prototype: proto, Until: until, ForStats: true})
 	if err != nil {
 		return pv, err
 	}

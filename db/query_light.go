@@ -1,0 +1,189 @@
+package db
+
+// The statistics' view of the history: Hits with Filter.ForStats loads
+// only the columns the statistics, comparisons, trends, Rayleigh fits and
+// exports read, so a long history answers quickly and in little memory.
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+
+	"github.com/ringlog/ringlog/pipeline"
+)
+
+// statsHits is Hits for Filter.ForStats: per hit its identity (id,
+// SHA-256, first path, prototype, revision, bay, point, direction, hit
+// time) and a Result with the verdict, the analysis version, the modes
+// (label, frequency, damping ratio and its standard error, amplitude,
+// dropped; no intervals, no estimates) and the reasons (code, severity,
+// mode; no message). Hit metadata JSON, result metadata, signal facts and
+// estimates are not read.
+func (db *DB) statsHits(ctx context.Context, f Filter) ([]Hit, error) {
+	var hits []Hit
+	err := db.read(ctx, "querying hits for statistics", func(tx *sql.Tx) error {
+		versions, err := analysisVersions(ctx, tx)
+		if err != nil {
+			return err
+		}
+		where, args := f.where()
+		rows, err := tx.QueryContext(ctx, `
+SELECT h.id, h.sha256, h.first_path, h.prototype, h.revision, h.bay, h.point, h.direction, h.hit_time,
+       r.id, r.analysis_id, r.verdict
+FROM hits h
+JOIN results r ON r.hit_id = h.id AND r.superseded = 0`+where+`
+ORDER BY h.hit_time, h.id`+f.limit(), args...)
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		in := interner{}
+		// the Results live in one slice: one allocation, not one per hit
+		var results []pipeline.Result
+		for rows.Next() {
+			var h Hit
+			var res pipeline.Result
+			var hitTime int64
+			var proto, rev, bay, point, dir, verdict string
+			if err := rows.Scan(&h.ID, &h.SHA256, &h.Path, &proto, &rev, &bay, &point, &dir, &hitTime,
+				&h.ResultID, &h.AnalysisID, &verdict); err != nil {
+				return err
+			}
+			h.Meta = HitMeta{Prototype: in.get(proto), Revision: in.get(rev), Bay: in.get(bay), Point: in.get(point),
+				Direction: in.get(dir), HitTime: fromNS(hitTime)}
+			res.Verdict = pipeline.Verdict(in.get(verdict))
+			res.AnalysisVersion = versions[h.AnalysisID]
+			res.File = h.Path
+			res.Reasons, res.Modes = []pipeline.Reason{}, []pipeline.Mode{}
+			hits = append(hits, h)
+			results = append(results, res)
+		}
+		if err := rows.Err(); err != nil {
+			return err
+		}
+		rows.Close()
+		byResult := make(map[int64]*Hit, len(hits))
+		for i := range hits {
+			hits[i].Result = &results[i]
+			byResult[hits[i].ResultID] = &hits[i]
+		}
+		for lo := 0; lo < len(hits); lo += lightChunk {
+			hi := min(lo+lightChunk, len(hits))
+			ids := make([]any, 0, hi-lo)
+			for _, h := range hits[lo:hi] {
+				ids = append(ids, h.ResultID)
+			}
+			if err := loadLightModes(ctx, tx, ids, byResult, &in); err != nil {
+				return err
+			}
+			if err := loadLightReasons(ctx, tx, ids, byResult, &in); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return hits, nil
+}
+
+// lightChunk is how many result ids go into one IN (...) list of the
+// statistics' queries.
+const lightChunk = 1000
+
+// interner shares the storage of repeated strings (prototype, revision,
+// labels, codes, ...) between hits.
+type interner map[string]string
+
+func (in interner) get(s string) string {
+	if v, ok := in[s]; ok {
+		return v
+	}
+	in[s] = s
+	return s
+}
+
+func analysisVersions(ctx context.Context, tx *sql.Tx) (map[int64]string, error) {
+	rows, err := tx.QueryContext(ctx, "SELECT id, analysis_version FROM analyses")
+	if err != nil {
+		return nil, fmt.Errorf("analyses: %w", err)
+	}
+	defer rows.Close()
+	out := map[int64]string{}
+	for rows.Next() {
+		var id int64
+		var v string
+		if err := rows.Scan(&id, &v); err != nil {
+			return nil, fmt.Errorf("analyses: %w", err)
+		}
+		out[id] = v
+	}
+	return out, rows.Err()
+}
+
+func loadLightModes(ctx context.Context, tx *sql.Tx, ids []any, byResult map[int64]*Hit, in *interner) error {
+	rows, err := tx.QueryContext(ctx, `
+SELECT result_id, idx, label, frequency_hz, damping_ratio, damping_ratio_sd, amplitude, dropped
+FROM modes WHERE result_id IN (`+placeholders(len(ids))+`) ORDER BY result_id, idx`, ids...)
+	if err != nil {
+		return fmt.Errorf("modes: %w", err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var resultID int64
+		var idx int
+		var label sql.NullString
+		var f, z, sd, amp sql.NullFloat64
+		var m pipeline.Mode
+		if err := rows.Scan(&resultID, &idx, &label, &f, &z, &sd, &amp, &m.Dropped); err != nil {
+			return fmt.Errorf("modes: %w", err)
+		}
+		h := byResult[resultID]
+		if h == nil || idx != len(h.Result.Modes) {
+			return fmt.Errorf("result %d: mode index %d out of sequence", resultID, idx)
+		}
+		if cap(h.Result.Modes) == 0 {
+			h.Result.Modes = make([]pipeline.Mode, 0, 4)
+		}
+		m.Label = in.get(label.String)
+		m.FrequencyHz, m.DampingRatio, m.DampingRatioSD, m.Amplitude = orNaN(f), orNaN(z), orNaN(sd), orNaN(amp)
+		m.FrequencyCI95, m.DampingRatioCI = nanPair, nanPair
+		m.EnergyShare, m.Cycles, m.DecaySNRdB, m.Spread = nan, nan, nan, nan
+		h.Result.Modes = append(h.Result.Modes, m)
+	}
+	return rows.Err()
+}
+
+var (
+	nan     = orNaN(sql.NullFloat64{})
+	nanPair = [2]float64{nan, nan}
+)
+
+func loadLightReasons(ctx context.Context, tx *sql.Tx, ids []any, byResult map[int64]*Hit, in *interner) error {
+	rows, err := tx.QueryContext(ctx, `
+SELECT result_id, code, severity, mode_idx
+FROM reasons WHERE result_id IN (`+placeholders(len(ids))+`) ORDER BY result_id, idx`, ids...)
+	if err != nil {
+		return fmt.Errorf("reasons: %w", err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var resultID int64
+		var code, sev string
+		var mode sql.NullInt64
+		if err := rows.Scan(&resultID, &code, &sev, &mode); err != nil {
+			return fmt.Errorf("reasons: %w", err)
+		}
+		h := byResult[resultID]
+		if h == nil {
+			return fmt.Errorf("reason of unknown result %d", resultID)
+		}
+		r := pipeline.Reason{Code: in.get(code), Severity: pipeline.Severity(in.get(sev))}
+		if mode.Valid {
+			r.Mode = pipeline.ModeRef(int(mode.Int64))
+		}
+		h.Result.Reasons = append(h.Result.Reasons, r)
+	}
+	return rows.Err()
+}
