@@ -86,7 +86,8 @@ type ChannelConfig struct {
 	Sensitivity float64  `toml:"sensitivity"` // raw file units per engineering unit; 0 = 1
 	Formats     []string `toml:"formats"`     // formats the sensitivity applies to ("wav", "csv", "uff"); empty = all
 	Unit        string   `toml:"unit"`
-	FullScale   float64  `toml:"full_scale"` // measuring range in engineering units; 0 = unknown
+	FullScale   float64  `toml:"full_scale"`  // measuring range in engineering units; 0 = unknown
+	HighpassHz  float64  `toml:"highpass_hz"` // AC-coupling corner of the sensor or amplifier, Hz; 0 = none (DC)
 }
 
 // PrototypeConfig lists the modes expected on a prototype.
@@ -112,6 +113,7 @@ type AnalysisConfig struct {
 	MaxModes     int      `toml:"max_modes"`
 	FMinHz       float64  `toml:"fmin_hz"`
 	FMaxHz       float64  `toml:"fmax_hz"`
+	MainsHz      float64  `toml:"mains_hz"` // 50 or 60: lines never taken for modes; 0 = both; negative = none
 }
 
 // ReportConfig sets the daily report.
@@ -184,6 +186,9 @@ func (c *Config) validate() error {
 		if ch.Sensitivity < 0 {
 			return fmt.Errorf("config %s: channel %q: sensitivity must be positive", c.path, ch.Name)
 		}
+		if ch.HighpassHz < 0 || math.IsNaN(ch.HighpassHz) || math.IsInf(ch.HighpassHz, 0) {
+			return fmt.Errorf("config %s: channel %q: highpass_hz must be 0 (none) or a positive corner frequency", c.path, ch.Name)
+		}
 		for _, f := range ch.Formats {
 			if f != "wav" && f != "csv" && f != "uff" {
 				return fmt.Errorf("config %s: channel %q: formats: %q is not one of wav, csv, uff", c.path, ch.Name, f)
@@ -230,6 +235,7 @@ func (c *Config) processOptions(f *FolderConfig) process.Options {
 	opt.Modal.MaxModes = c.Analysis.MaxModes
 	opt.Modal.FMinHz = c.Analysis.FMinHz
 	opt.Modal.FMaxHz = c.Analysis.FMaxHz
+	opt.Modal.MainsHz = c.Analysis.MainsHz
 	for _, ch := range c.Channels {
 		if ch.Sensitivity > 0 {
 			if opt.Calibration == nil {
@@ -242,6 +248,12 @@ func (c *Config) processOptions(f *FolderConfig) process.Options {
 				opt.FullScale = map[string]float64{}
 			}
 			opt.FullScale[ch.Name] = ch.FullScale
+		}
+		if ch.HighpassHz > 0 {
+			if opt.HighpassHz == nil {
+				opt.HighpassHz = map[string]float64{}
+			}
+			opt.HighpassHz[ch.Name] = ch.HighpassHz
 		}
 		if ch.Unit != "" {
 			if opt.Units == nil {

@@ -18,6 +18,8 @@ const (
 	CodeFrictionDecay  = "friction_decay"     // flag: envelope falls linearly
 	CodeDampingDrift   = "damping_drift"      // flag: damping changes along the decay
 	CodeEstimatesApart = "estimates_disagree" // flag: estimators give different damping
+	CodeTransient      = "transient_in_decay" // flag: a burst in the residual of the fitted decay
+	CodeModeLimit      = "mode_limit"         // flag: more modes above the noise than reported
 )
 
 // Rule is one quality check.
@@ -59,6 +61,8 @@ func Rules() []Rule {
 		NonViscous{},
 		AmplitudeDependence{},
 		Disagreement{},
+		Transient{},
+		ModeLimit{},
 	}
 }
 

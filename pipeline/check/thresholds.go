@@ -176,6 +176,23 @@ type Thresholds struct {
 	// in the middle of a vibration: a structure at rest that is struck
 	// starts from zero. Fraction, default 0.10 (our choice).
 	StartLevelFraction float64 `toml:"start_level_fraction" json:"start_level_fraction"`
+
+	// --- transient_in_decay ---
+
+	// TransientMinRatio: a burst in the residual of the fitted decay is
+	// reported when its RMS is at least this many times the residual's
+	// ordinary RMS. Ratio, default 3 (our choice, about 10 dB: the
+	// estimators already require 6 dB and ten robust spreads, which noise
+	// alone does not reach).
+	TransientMinRatio float64 `toml:"transient_min_ratio" json:"transient_min_ratio"`
+
+	// --- mode_limit ---
+
+	// ModeLimitMinLeftOut: the result says that the limit of reported
+	// modes was reached when at least this many modes that stood above the
+	// noise were left out. Count, default 1 (our choice: no real mode is
+	// left out silently).
+	ModeLimitMinLeftOut int `toml:"mode_limit_min_left_out" json:"mode_limit_min_left_out"`
 }
 
 // DefaultThresholds returns the default limits; see each field of
@@ -216,6 +233,10 @@ func DefaultThresholds() Thresholds {
 		PreRingNoiseRatio:   3,
 		PreRingPeakFraction: 0.02,
 		StartLevelFraction:  0.10,
+
+		TransientMinRatio: 3,
+
+		ModeLimitMinLeftOut: 1,
 	}
 }
 
@@ -271,5 +292,7 @@ func (t Thresholds) Validate() error {
 	pos("pre_ring_noise_ratio", t.PreRingNoiseRatio)
 	frac("pre_ring_peak_fraction", t.PreRingPeakFraction, false)
 	frac("start_level_fraction", t.StartLevelFraction, false)
+	pos("transient_min_ratio", t.TransientMinRatio)
+	count("mode_limit_min_left_out", t.ModeLimitMinLeftOut, 1)
 	return errors.Join(errs...)
 }

@@ -407,7 +407,7 @@ func (a *analysis) run() {
 		if len(bs.y) < pencilMinLen {
 			continue
 		}
-		comps, _, err := Subspace(bs.y, 1/bs.dt, a.noise*bs.noise)
+		comps, _, err := Subspace(bs.y, 1/bs.dt, a.subspaceNoise(b)*bs.noise)
 		if err != nil {
 			continue
 		}
@@ -444,6 +444,16 @@ func (a *analysis) run() {
 		cands = cands[:maxFitComponents]
 	}
 	a.fitAndReport(cands)
+}
+
+// subspaceNoise is the white-equivalent noise level the pencil's model
+// order rests on in band b: the noise at the band's frequency, or the
+// overall level where the noise spectrum cannot resolve the band.
+func (a *analysis) subspaceNoise(b band) float64 {
+	if a.nm.psd == nil || b.hi < 2*a.nm.binHz {
+		return a.noise
+	}
+	return math.Max(a.nm.SDAt((b.lo+b.hi)/2), a.nm.SDAt(b.lo))
 }
 
 // decaySpan returns the number of samples of x0 until its mean square,
@@ -661,7 +671,10 @@ func (a *analysis) report(fit *Fit, cands []candidate, y []float64) {
 		}
 		m.Estimates = append(m.Estimates, pipeline.Estimate{Method: MethodNLS, FrequencyHz: f.fn, DampingRatio: f.zeta,
 			Note: fmt.Sprintf("least squares on %d samples, %d components", fit.N, len(fit.Components))})
-		if sub, ok := a.subspaceEstimate(cands[f.k]); ok {
+		// the pencil's own estimate, when the fitted component is still the
+		// pole it started from (the fit may move a spare start pole onto a
+		// mode the pencil missed; its start value is then no estimate of it)
+		if sub, ok := a.subspaceEstimate(cands[f.k]); ok && math.Abs(sub.FrequencyHz-f.fn) < 0.01*f.fn+q*f.sdFn {
 			m.Estimates = append(m.Estimates, sub)
 		}
 		diag := ModeDiag{ENR: f.energy / noiseVar, NoiseSD: ln, ZetaEarly: math.NaN(), ZetaLate: math.NaN(),

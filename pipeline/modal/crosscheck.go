@@ -146,6 +146,15 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 	}
 	env := Hilbert(nil, bp)[i0:]
 	bp = bp[i0:]
+	if nSpan >= len(a.x0) {
+		// the decay is cut by the end of the record: the zero-phase filter
+		// rings there for about two over its bandwidth (it sees the cut as
+		// a step), so the envelope and the decrement stop before that
+		settle := 2 / (hi - lo)
+		if trim := int(settle * fsx); trim > 0 && len(env)-trim >= len(env)/2 {
+			env, bp = env[:len(env)-trim], bp[:len(bp)-trim]
+		}
+	}
 	fixZeta := func(z float64) (float64, float64) {
 		fnMeas := fd / math.Sqrt(1-z*z)
 		return CorrectZetaExpWindow(fnMeas, z, tau)

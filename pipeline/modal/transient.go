@@ -27,11 +27,32 @@ func (a *analysis) findTransients(fit *Fit, y []float64) {
 		return
 	}
 	r := fit.ModelTo(make([]float64, len(y)), 0, nil, true)
+	for i := range r {
+		r[i] = y[i] - r[i]
+	}
+	// a moving average over four blocks is taken out first: the slow
+	// wander of 1/f noise is no burst (a knock or a rattle rings well
+	// above 1/(16 ms))
+	w := 2 * b
+	var acc float64
+	for i := 0; i < min(w, len(r)); i++ {
+		acc += r[i]
+	}
+	hp := make([]float64, len(r))
+	for i := range r {
+		if j := i + w; j < len(r) {
+			acc += r[j]
+		}
+		if j := i - w - 1; j >= 0 {
+			acc -= r[j]
+		}
+		cnt := min(i+w, len(r)-1) - max(i-w, 0) + 1
+		hp[i] = r[i] - acc/float64(cnt)
+	}
 	ms := make([]float64, nb)
 	for j := range ms {
 		var s float64
-		for i := j * b; i < (j+1)*b; i++ {
-			d := y[i] - r[i]
+		for _, d := range hp[j*b : (j+1)*b] {
 			s += d * d
 		}
 		ms[j] = s / float64(b)

@@ -28,8 +28,12 @@ type Options struct {
 	Calibration map[string]Calibration
 	// FullScale and Units override, per channel name, what the file says
 	// (WAV files carry neither).
-	FullScale  map[string]float64
-	Units      map[string]string
+	FullScale map[string]float64
+	Units     map[string]string
+	// HighpassHz is, per channel name, the corner of the first-order
+	// high-pass (AC coupling) of the sensor or amplifier; it becomes part
+	// of the fitted model of that response channel.
+	HighpassHz map[string]float64
 	Modal      modal.Options
 	Thresholds check.Thresholds
 }
@@ -101,6 +105,9 @@ func Recording(ctx context.Context, rec *pipeline.Recording, opt Options) (*pipe
 	}
 	mo := opt.Modal
 	mo.WindowTauS = opt.WindowTauS
+	if hp, ok := opt.HighpassHz[resp.Name]; ok && hp > 0 {
+		mo.HighpassHz = hp
+	}
 	if mo.WindowTauS == 0 {
 		mo.WindowTauS = metaFloat(rec.Meta, "window_tau", "window_tau_s", "exp_window_tau")
 	}

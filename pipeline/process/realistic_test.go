@@ -2,6 +2,7 @@ package process_test
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -174,26 +175,28 @@ func analyse(t *testing.T, h rhit, opt process.Options) *pipeline.Result {
 }
 
 // wantClean asserts an accepted hit with every true mode found, its damping
-// ratio inside the reported 95 % interval widened by tol (relative; 0 for
-// the interval alone), and no mode that is not a true one.
-func wantClean(t *testing.T, res *pipeline.Result, h rhit, tol float64) {
+// ratio inside the reported 95 % interval (with widen > 1, that interval's
+// half-width times widen: with a dozen modes one of them misses its 95 %
+// interval in about half the hits), and no mode that is not a true one.
+func wantClean(t *testing.T, res *pipeline.Result, h rhit, widen float64) {
 	t.Helper()
 	if res.Verdict != pipeline.Accepted {
 		t.Errorf("verdict %s on a clean hit, reasons %+v", res.Verdict, res.Reasons)
 	}
-	wantModes(t, res, h, tol)
+	wantModes(t, res, h, widen)
 }
 
-func wantModes(t *testing.T, res *pipeline.Result, h rhit, tol float64) {
+func wantModes(t *testing.T, res *pipeline.Result, h rhit, widen float64) {
 	t.Helper()
 	for _, m := range h.modes {
 		found := false
 		for _, g := range res.Modes {
 			if math.Abs(g.FrequencyHz-m.f) < 0.01*m.f {
 				found = true
-				lo, hi := g.DampingRatioCI[0]-tol*m.zeta, g.DampingRatioCI[1]+tol*m.zeta
+				hw := max(widen, 1) * (g.DampingRatioCI[1] - g.DampingRatioCI[0]) / 2
+				lo, hi := g.DampingRatio-hw, g.DampingRatio+hw
 				if m.zeta < lo || m.zeta > hi {
-					t.Errorf("mode %.4g Hz: zeta %.5f, interval %.5f..%.5f misses the true %.5f", m.f, g.DampingRatio, g.DampingRatioCI[0], g.DampingRatioCI[1], m.zeta)
+					t.Errorf("mode %.4g Hz: zeta %.6g, interval %.6g..%.6g misses the true %.6g", m.f, g.DampingRatio, g.DampingRatioCI[0], g.DampingRatioCI[1], m.zeta)
 				}
 			}
 		}
@@ -256,3 +259,105 @@ func TestRealisticHum(t *testing.T) {
 }
 
 var _ = check.CodeClipped
+
+// A slow drift of 4 % of the peak over the record (thermal drift, an
+// amplifier settling) moves no mode's damping outside its interval.
+func TestRealisticDrift(t *testing.T) {
+	h := rhit{fs: 2048, dur: 4, pre: 0.2, modes: []rmode{{12, 0.01, 2, 0.3}, {47, 0.008, 1, 1.1}},
+		white: 2e-3, drift: 0.12, seed: 5}
+	res := analyse(t, h, process.Defaults())
+	wantClean(t, res, h, 0)
+}
+
+// fmin_hz = 0 means 0: a 0.5 Hz mode in a 60 s record is found, and no
+// phantom mode appears below it.
+func TestRealisticHalfHertzMode(t *testing.T) {
+	h := rhit{fs: 100, dur: 60, pre: 1, modes: []rmode{{0.5, 0.01, 2, 0.3}, {3.1, 0.01, 1, 1.1}},
+		white: 2e-3, seed: 6}
+	res := analyse(t, h, process.Defaults())
+	wantClean(t, res, h, 0)
+}
+
+// The AC coupling of the sensor (a first-order high-pass at 0.5 Hz, run on
+// the signal as the amplifier does) beside a 2 Hz mode: with its corner in
+// the configuration (highpass_hz) the mode is not biased.
+func TestRealisticACCoupling(t *testing.T) {
+	h := rhit{fs: 200, dur: 30, pre: 1, modes: []rmode{{2, 0.02, 2, 0.3}, {11, 0.01, 1, 1.1}},
+		white: 1e-3, highpassHz: 0.5, seed: 7}
+	opt := process.Defaults()
+	opt.HighpassHz = map[string]float64{"accel": 0.5}
+	res := analyse(t, h, opt)
+	wantClean(t, res, h, 0)
+}
+
+// An exponential window (tau given): the noise reported is the unwindowed
+// one, the estimates are corrected, and the clean windowed hit gets no
+// flag.
+func TestRealisticExpWindow(t *testing.T) {
+	h := rhit{fs: 5120, dur: 3, pre: 0.1, modes: twoModes(), white: 1e-3, windowTau: 0.6, seed: 8}
+	opt := process.Defaults()
+	opt.WindowTauS = 0.6
+	res := analyse(t, h, opt)
+	wantClean(t, res, h, 0)
+	if math.Abs(res.NoiseRMS-h.white) > 0.15*h.white {
+		t.Errorf("noise %.3g, the unwindowed noise is %.3g", res.NoiseRMS, h.white)
+	}
+}
+
+// A 16-bit converter with a small signal: the noise is below one step, so
+// the samples sit on a few levels. The noise floor is step/sqrt(12) and
+// the interval covers the truth.
+func TestRealisticQuantised(t *testing.T) {
+	step := 10.0 / 32768 // +/- 10 full scale, 16 bits
+	h := rhit{fs: 5120, dur: 3, pre: 0.2, modes: []rmode{{85, 0.015, 0.05, 0.3}, {320, 0.01, 0.03, 1.1}},
+		white: 2e-5, step: step, seed: 9}
+	res := analyse(t, h, process.Defaults())
+	wantModes(t, res, h, 0)
+	if res.NoiseRMS < 0.99*step/math.Sqrt(12) {
+		t.Errorf("noise %.3g below the quantisation floor %.3g", res.NoiseRMS, step/math.Sqrt(12))
+	}
+}
+
+// A rattle 0.6 s into the decay (15 ms burst at 1.7 kHz) is flagged with
+// its time; the same hit without it is clean.
+func TestRealisticRattle(t *testing.T) {
+	h := rhit{fs: 5120, dur: 3, pre: 0.2, modes: twoModes(), white: 1e-3, seed: 10}
+	wantClean(t, analyse(t, h, process.Defaults()), h, 0)
+	h.rattleAt, h.rattleAmp = 0.6, 0.05
+	res := analyse(t, h, process.Defaults())
+	found := false
+	for _, r := range res.Reasons {
+		if r.Code == check.CodeTransient {
+			found = true
+			var at float64
+			if _, err := fmt.Sscanf(r.Message, "a burst at %f s", &at); err != nil || math.Abs(at-0.8) > 0.01 {
+				t.Errorf("transient reason does not give the time 0.80 s (0.2 s pre-trigger + 0.6 s): %s", r.Message)
+			}
+		}
+	}
+	if !found {
+		t.Errorf("rattle not flagged: %+v", res.Reasons)
+	}
+	wantModes(t, res, h, 0)
+}
+
+// A plate with a dozen modes in band: every mode, the weakest 36 dB above
+// the noise, is reported; with max_modes below their number the result
+// says that modes were left out.
+func TestRealisticManyModes(t *testing.T) {
+	var ms []rmode
+	for i := 0; i < 12; i++ {
+		f := 40 * math.Pow(1.25, float64(i))
+		ms = append(ms, rmode{f, 0.004 + 0.001*float64(i%3), 1 / (1 + 0.3*float64(i)), 0.5 * float64(i)})
+	}
+	ms[7].amp = 0.063 // 36 dB above the white noise of 1e-3
+	h := rhit{fs: 25600, dur: 2, pre: 0.1, modes: ms, white: 1e-3, seed: 11}
+	res := analyse(t, h, process.Defaults())
+	wantClean(t, res, h, 1.7) // 3.3 standard errors
+	opt := process.Defaults()
+	opt.Modal.MaxModes = 8
+	res = analyse(t, h, opt)
+	if !hasCode(res, check.CodeModeLimit) {
+		t.Errorf("12 modes with max_modes 8 and no mode_limit reason: %+v", res.Reasons)
+	}
+}
