@@ -61,6 +61,7 @@ type Config struct {
 	Analysis   AnalysisConfig    `toml:"analysis"`
 	Thresholds check.Thresholds  `toml:"thresholds"`
 	Report     ReportConfig      `toml:"report"`
+	Live       *LiveConfig       `toml:"live"` // the live page (live.go); nil: none
 
 	path string // file the config came from
 }

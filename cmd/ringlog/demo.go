@@ -211,6 +211,10 @@ bay = "bay-3"
 # R1_P04_z_0012.csv -> revision R1, point P04, direction z
 pattern = '^(?P<revision>R\d+)_(?P<point>P\d+)_(?P<direction>[xyz])_'
 
+# The live page: the last hit's verdict at the bay, in a browser.
+[live]
+listen = %q
+
 # The modes expected on the gantry arm: hits are labelled by the nearest.
 [[prototype]]
 name = "gantry-arm"
@@ -249,7 +253,7 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintf(&expected, "[[prototype.mode]]\nlabel = %q\nfrequency_hz = %g\ntolerance = 0.08\n", dm.label, dm.fHz)
 	}
 	cfgText := fmt.Sprintf(demoConfig, dbPath, filepath.Join(root, "ringlog.log"),
-		1/demoWAVForceFS, demoWAVForceFS, 1/demoWAVAccelFS, export, expected.String())
+		1/demoWAVForceFS, demoWAVForceFS, 1/demoWAVAccelFS, export, demoLiveAddr(), expected.String())
 	if err := os.WriteFile(cfgPath, []byte(cfgText), 0o644); err != nil {
 		return err
 	}
@@ -272,6 +276,7 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer m.Close()
+	fmt.Fprintf(e.stdout, "live page     %s  (open it in a browser: every hit shows there as it is recorded)\n\n", m.LiveURL())
 	dctx, stop := context.WithCancel(ctx)
 	defer stop()
 	runErr := make(chan error, 1)

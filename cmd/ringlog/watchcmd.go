@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"net"
 	"os"
 	"sync"
 	"time"
@@ -14,6 +15,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/report/live"
 	"github.com/ringlog/ringlog/watch"
 )
 
@@ -65,6 +67,9 @@ type Main struct {
 
 	// Recorded, when set, is called after each file is stored.
 	Recorded func(o outcome, rec db.Outcome, err error)
+
+	live   *live.Server // the [live] page (live.go); nil without one
+	liveLn net.Listener
 }
 
 // Open sets up logging, opens the database, takes the single-writer lock
@@ -98,6 +103,9 @@ func (m *Main) Open(ctx context.Context) (err error) {
 		return err
 	}
 	m.release = release
+	if err := m.openLive(); err != nil {
+		return err
+	}
 	if err := m.dropVanished(ctx); err != nil {
 		return err
 	}
@@ -155,6 +163,9 @@ func (m *Main) Run(ctx context.Context) error {
 			// hand the file out again rather than lose it.
 			m.watcher.Forget(o.path)
 		}
+		if m.live != nil {
+			m.live.Notify()
+		}
 		if m.Recorded != nil {
 			m.Recorded(o, rec, err)
 		}
@@ -183,12 +194,14 @@ func (m *Main) Run(ctx context.Context) error {
 	m.Log.Info().Str("database", cfg.Database).Int("folders", len(cfg.Folders)).Int("workers", eng.workers).
 		Dur("settle", cfg.Settle.Duration).Msg("ringlog daemon started")
 	m.once.Do(func() { close(m.started) })
+	liveDone := m.serveLive(wctx)
 	reports := make(chan struct{}) // the daily report writer (dailyreport.go)
 	go func() { defer close(reports); scheduleDaily(wctx, cfg, m.store, m.Log) }()
 	err := eng.run(ctx, jobs)
 	<-watchDone
 	stopWatch()
 	<-reports
+	liveDone()
 	m.Log.Info().Msg("ringlog daemon stopped; work in hand finished")
 	if werr != nil && !errors.Is(werr, context.Canceled) {
 		return werr
@@ -199,6 +212,10 @@ func (m *Main) Run(ctx context.Context) error {
 // Close releases the lock and closes the database and the log.
 func (m *Main) Close() error {
 	var errs []error
+	if m.liveLn != nil {
+		m.liveLn.Close()
+		m.liveLn = nil
+	}
 	if m.release != nil {
 		errs = append(errs, m.release())
 		m.release = nil
