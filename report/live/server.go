@@ -55,7 +55,7 @@ type Options struct {
 	// Now is the clock (default time.Now).
 	Now func() time.Time
 	// Log receives the server's problems (default: dropped).
-	Log func(msg string, err error)
+	Log    func(msg string, err error)
 	Limits Limits
 }
 

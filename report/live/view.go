@@ -80,9 +80,9 @@ type bandView struct {
 type failView struct{ File, Message, Time string }
 
 type tallyRow struct {
-	Prototype, Revision          string
-	Accepted, Flagged, Rejected  int
-	Total                        int
+	Prototype, Revision         string
+	Accepted, Flagged, Rejected int
+	Total                       int
 }
 
 type recentRow struct {
