@@ -49,7 +49,7 @@ td.n,th.n{text-align:right}
 svg.band{width:100%;height:1.1rem;display:block}
 .dropped td{color:var(--muted);text-decoration:line-through}
 img.plot{width:100%;height:auto;border:1px solid var(--rule);background:#fff}
-.tag{display:inline-block;min-width:7.2em;padding:2px 8px;font-weight:700;font-size:.9rem;border:3px solid var(--ink)}
+.tag{display:inline-block;white-space:nowrap;min-width:7.2em;padding:2px 8px;font-weight:700;font-size:.9rem;border:3px solid var(--ink)}
 .tag.accepted{border-color:var(--acc);color:var(--acc)}
 .tag.flagged{border-color:var(--flag);color:var(--flag);border-style:dashed}
 .tag.rejected{background:var(--rej);border-color:var(--rej);color:#fff}

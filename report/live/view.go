@@ -229,6 +229,9 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 			mv.Label = m.Label
 		}
 		if mv.Label == "" {
+			mv.Label = nearestLabel(id.Labels, m.FrequencyHz)
+		}
+		if mv.Label == "" {
 			mv.Label = "mode " + strconv.Itoa(i+1)
 		} else if l := labels[i]; l != "" && !m.Dropped {
 			var f, z []float64
@@ -252,6 +255,27 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 			hv.BandRevision, minBandHits, hv.BandHits)
 	}
 	return hv, id.Revisions(), nil
+}
+
+// nearestLabel names a mode the statistics left out (of a rejected hit,
+// or dropped) after the nearest identified mode within its tolerance
+// (report.DefaultTolerance when it states none); "" when none is near.
+func nearestLabel(labels []report.ModeLabel, f float64) string {
+	best, name := math.Inf(1), ""
+	for _, l := range labels {
+		tol := l.Tolerance
+		if tol <= 0 {
+			tol = report.DefaultTolerance
+		}
+		ref := l.FrequencyHz
+		if l.NominalHz > 0 {
+			ref = l.NominalHz
+		}
+		if d := math.Abs(f-ref) / ref; d <= tol && d < best {
+			best, name = d, l.Label
+		}
+	}
+	return name
 }
 
 // band is the campaign band of earlier values x, with value v and its
