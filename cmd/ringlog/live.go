@@ -71,18 +71,19 @@ func (m *Main) openLive() error {
 		ln.Close()
 		return fmt.Errorf("config %s: %w", m.Config.path, err)
 	}
-	m.live, m.liveLn = srv, ln
+	m.live, m.liveLn, m.liveURL = srv, ln, liveURL(ln.Addr())
 	return nil
 }
 
 // LiveURL returns the address of the live page ("" without one).
-func (m *Main) LiveURL() string {
-	if m.liveLn == nil {
-		return ""
-	}
-	ta, ok := m.liveLn.Addr().(*net.TCPAddr)
+func (m *Main) LiveURL() string { return m.liveURL }
+
+// liveURL is the URL of a listener; an unspecified address (all
+// interfaces) is named by the host name.
+func liveURL(addr net.Addr) string {
+	ta, ok := addr.(*net.TCPAddr)
 	if !ok {
-		return "http://" + m.liveLn.Addr().String() + "/"
+		return "http://" + addr.String() + "/"
 	}
 	host := ta.IP.String()
 	if ta.IP.IsUnspecified() {
@@ -103,8 +104,7 @@ func (m *Main) LiveLink() string {
 	if l == "" {
 		return ""
 	}
-	u := m.LiveURL()
-	return u[:len(u)-1] + l
+	return strings.TrimSuffix(m.liveURL, "/") + l
 }
 
 // serveLive serves the live page until ctx ends; the returned function

@@ -68,8 +68,9 @@ type Main struct {
 	// Recorded, when set, is called after each file is stored.
 	Recorded func(o outcome, rec db.Outcome, err error)
 
-	live   *live.Server // the [live] page (live.go); nil without one
-	liveLn net.Listener
+	live    *live.Server // the [live] page (live.go); nil without one
+	liveLn  net.Listener
+	liveURL string
 }
 
 // Open sets up logging, opens the database, takes the single-writer lock
