@@ -229,6 +229,9 @@ type RevisionStats struct {
 	Modes     []ModeStat    `json:"modes"`
 	Unmatched []Observation `json:"unmatched"`
 	Excluded  []Exclusion   `json:"excluded"`
+	// DampingVsLevel is filled by callers that have the hits
+	// (DampingVsLevel): per mode, damping against the excitation level.
+	DampingVsLevel []LevelStat `json:"damping_vs_level"`
 }
 
 // Stats computes the statistics of every revision and mode of id, in

@@ -79,6 +79,7 @@ func runStats(ctx context.Context, e *env, args []string) error {
 			all[i].Modes = keep
 		}
 	}
+	addLevelTables(all, id, hits)
 	switch {
 	case *asJSON:
 		for _, rs := range all {
@@ -141,6 +142,7 @@ func printStats(w io.Writer, rs rpt.RevisionStats) {
 	if len(rs.Modes) == 0 {
 		fmt.Fprintln(w, "  no usable mode")
 	}
+	printLevelTables(w, rs.DampingVsLevel)
 	fmt.Fprintln(w, "  (zeta = damping ratio in % of critical; intervals 95 %; outliers: more than 3 x 1.4826 x MAD from the median, listed, not removed)")
 	fmt.Fprintln(w)
 }
