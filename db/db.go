@@ -34,6 +34,7 @@ type DB struct {
 	r       *sql.DB // read pool (PostgreSQL: the same pool)
 	dialect dialect // SQLite (the zero value) or PostgreSQL
 	pg      *pgState
+	spool   bool // results and final failures also go to the outbox (spool.go)
 }
 
 // Open opens the history at path, creating the file when it does not exist
@@ -58,6 +59,11 @@ type Options struct {
 	// connections; default "ringlog".
 	AppName string
 
+	// Spool opens a local SQLite history as a bay's spool: every result
+	// and final failure it records is also queued in its outbox for
+	// forwarding to the central history (package db/forward).
+	Spool bool
+
 	readOnly bool // OpenReadOnly
 }
 
@@ -68,9 +74,20 @@ type Options struct {
 // The schema and its migrations are the same on both.
 func OpenWith(ctx context.Context, target string, o Options) (*DB, error) {
 	if IsPostgres(target) {
+		if o.Spool {
+			return nil, fmt.Errorf("database %s: a spool is a local SQLite file, not a PostgreSQL server", target)
+		}
 		return openPostgres(ctx, target, o, migrationFS)
 	}
-	return openWith(ctx, target, migrationFS)
+	d, err := openWith(ctx, target, migrationFS)
+	if err != nil || !o.Spool {
+		return d, err
+	}
+	if err := d.openSpool(ctx); err != nil {
+		d.Close()
+		return nil, err
+	}
+	return d, nil
 }
 
 func openWith(ctx context.Context, path string, migrations fs.FS) (*DB, error) {

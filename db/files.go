@@ -224,7 +224,14 @@ ON CONFLICT (path) DO UPDATE SET
     last_error = excluded.last_error,
     updated    = excluded.updated`,
 			fi.Path, fi.Size, toNS(fi.MTime), fi.SHA256, string(state), msg, now)
-		return err
+		if err != nil || !final || !db.spool {
+			return err
+		}
+		var attempts int
+		if err := tx.QueryRowContext(ctx, "SELECT attempts FROM files WHERE path = ?", fi.Path).Scan(&attempts); err != nil {
+			return err
+		}
+		return addToOutbox(ctx, tx, outboxFailure, fi, msg, attempts)
 	})
 }
 

@@ -107,8 +107,16 @@ func applyMigration(ctx context.Context, w *sql.DB, m migration, latest int, d d
 		if _, err := tx.ExecContext(ctx, "SELECT pg_advisory_xact_lock(?)", int64(migrationLockKey)); err != nil {
 			return fmt.Errorf("migration %s: taking the migration lock: %w", m.name, err)
 		}
-		if _, err := tx.ExecContext(ctx, "CREATE TABLE IF NOT EXISTS schema_version (version BIGINT NOT NULL PRIMARY KEY, applied_at BIGINT NOT NULL)"); err != nil {
+		// Created only when missing: a role that may not create tables
+		// (a bay's) can open a history whose schema is current.
+		var exists bool
+		if err := tx.QueryRowContext(ctx, "SELECT to_regclass('schema_version') IS NOT NULL").Scan(&exists); err != nil {
 			return fmt.Errorf("migration %s: schema_version table: %w", m.name, err)
+		}
+		if !exists {
+			if _, err := tx.ExecContext(ctx, "CREATE TABLE schema_version (version BIGINT NOT NULL PRIMARY KEY, applied_at BIGINT NOT NULL)"); err != nil {
+				return fmt.Errorf("migration %s: schema_version table: %w", m.name, err)
+			}
 		}
 	}
 	have, err := d.schemaVersion(ctx, tx)

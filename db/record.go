@@ -50,87 +50,126 @@ type Outcome struct {
 // nil stores {}.
 func (db *DB) RecordResult(ctx context.Context, fi FileInfo, meta HitMeta, res *pipeline.Result, settings any) (Outcome, error) {
 	var out Outcome
-	fi.SHA256 = strings.ToLower(fi.SHA256)
-	if fi.Path == "" {
-		return out, fmt.Errorf("database %s: record result: empty path", db.path)
-	}
-	if !validSHA256(fi.SHA256) {
-		return out, fmt.Errorf("database %s: record result of %s: SHA-256 %q is not 64 hex digits", db.path, fi.Path, fi.SHA256)
-	}
-	if err := checkResult(res); err != nil {
-		return out, fmt.Errorf("database %s: record result of %s: %w", db.path, fi.Path, err)
-	}
-	settingsJSON, err := marshalSettings(settings)
+	in, err := prepareRecord(fi, meta, res, settings)
 	if err != nil {
-		return out, fmt.Errorf("database %s: record result of %s: settings: %w", db.path, fi.Path, err)
+		return out, fmt.Errorf("database %s: record result%s: %w", db.path, ofPath(fi.Path), err)
 	}
-	extra, err := marshalMap(meta.Extra)
-	if err != nil {
-		return out, fmt.Errorf("database %s: record result of %s: metadata: %w", db.path, fi.Path, err)
-	}
-	now := time.Now()
-	hitTime := meta.HitTime
-	if hitTime.IsZero() {
-		hitTime = fi.MTime
-	}
-	if hitTime.IsZero() {
-		hitTime = now
-	}
-
-	err = db.write(ctx, "record result of "+fi.Path, func(tx *sql.Tx) error {
-		// Two writers may store the same bytes at once (two bays of one
-		// PostgreSQL history): the insert then finds the other's hit, and
-		// the second pass records this file as its duplicate.
-		for pass := 0; ; pass++ {
-			out = Outcome{}
-			var firstPath string
-			err := tx.QueryRowContext(ctx, "SELECT id, first_path FROM hits WHERE sha256 = ?", fi.SHA256).Scan(&out.HitID, &firstPath)
-			switch {
-			case err == nil:
-				if err := tx.QueryRowContext(ctx, "SELECT id FROM results WHERE hit_id = ? AND superseded = 0", out.HitID).
-					Scan(&out.ResultID); err != nil {
-					return fmt.Errorf("current result of hit %d: %w", out.HitID, err)
-				}
-				state := StateDuplicate
-				if firstPath == fi.Path {
-					state, out.Repeat = StateAnalysed, true
-				} else {
-					out.Duplicate = true
-				}
-				return upsertFile(ctx, tx, fi, state, out.HitID, now)
-			case !errors.Is(err, sql.ErrNoRows):
-				return err
-			}
-
-			analysisID, err := analysisID(ctx, tx, res.AnalysisVersion, settingsJSON, now)
-			if err != nil {
-				return err
-			}
-			err = tx.QueryRowContext(ctx, `
-INSERT INTO hits (sha256, first_path, prototype, revision, bay, point, direction, hit_time, meta,
-                  format, channel, force_channel, sample_rate, duration, noise_rms, verdict, analysis_id, ingested_at)
-VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-ON CONFLICT (sha256) DO NOTHING
-RETURNING id`,
-				fi.SHA256, fi.Path, meta.Prototype, meta.Revision, meta.Bay, meta.Point, meta.Direction, toNS(hitTime), extra,
-				res.Format, res.Channel, res.ForceChannel, sqlReal(res.SampleRate), sqlReal(res.DurationS), sqlReal(res.NoiseRMS),
-				string(res.Verdict), analysisID, toNS(now)).Scan(&out.HitID)
-			if errors.Is(err, sql.ErrNoRows) && pass == 0 {
-				continue // stored meanwhile by another writer
-			}
-			if err != nil {
-				return fmt.Errorf("inserting hit: %w", err)
-			}
-			if out.ResultID, err = insertResult(ctx, tx, out.HitID, analysisID, res, now); err != nil {
-				return err
-			}
-			return upsertFile(ctx, tx, fi, StateAnalysed, out.HitID, now)
+	err = db.write(ctx, "record result of "+in.fi.Path, func(tx *sql.Tx) error {
+		var err error
+		if out, err = recordTx(ctx, tx, in, time.Now()); err != nil {
+			return err
 		}
+		if db.spool && !out.Repeat {
+			return addToOutbox(ctx, tx, outboxResult, in.fi, "", 0)
+		}
+		return nil
 	})
 	if err != nil {
 		return Outcome{}, err
 	}
 	return out, nil
+}
+
+func ofPath(p string) string {
+	if p == "" {
+		return ""
+	}
+	return " of " + p
+}
+
+// recordInput is a checked result ready to store.
+type recordInput struct {
+	fi              FileInfo
+	meta            HitMeta
+	res             *pipeline.Result
+	settings, extra string // JSON
+	hitTime         time.Time
+}
+
+// prepareRecord checks what RecordResult is given and turns it into what
+// the tables hold.
+func prepareRecord(fi FileInfo, meta HitMeta, res *pipeline.Result, settings any) (recordInput, error) {
+	in := recordInput{fi: fi, meta: meta, res: res}
+	in.fi.SHA256 = strings.ToLower(fi.SHA256)
+	if fi.Path == "" {
+		return in, errors.New("empty path")
+	}
+	if !validSHA256(in.fi.SHA256) {
+		return in, fmt.Errorf("SHA-256 %q is not 64 hex digits", in.fi.SHA256)
+	}
+	if err := checkResult(res); err != nil {
+		return in, err
+	}
+	var err error
+	if in.settings, err = marshalSettings(settings); err != nil {
+		return in, fmt.Errorf("settings: %w", err)
+	}
+	if in.extra, err = marshalMap(meta.Extra); err != nil {
+		return in, fmt.Errorf("metadata: %w", err)
+	}
+	in.hitTime = meta.HitTime
+	if in.hitTime.IsZero() {
+		in.hitTime = fi.MTime
+	}
+	return in, nil
+}
+
+// recordTx stores one checked result inside the transaction tx; now is
+// the time of recording.
+func recordTx(ctx context.Context, tx *sql.Tx, in recordInput, now time.Time) (Outcome, error) {
+	var out Outcome
+	m := in.meta
+	if in.hitTime.IsZero() {
+		in.hitTime = now
+	}
+	// Two writers may store the same bytes at once (two bays of one
+	// PostgreSQL history): the insert then finds the other's hit, and
+	// the second pass records this file as its duplicate.
+	for pass := 0; ; pass++ {
+		out = Outcome{}
+		var firstPath string
+		err := tx.QueryRowContext(ctx, "SELECT id, first_path FROM hits WHERE sha256 = ?", in.fi.SHA256).Scan(&out.HitID, &firstPath)
+		switch {
+		case err == nil:
+			if err := tx.QueryRowContext(ctx, "SELECT id FROM results WHERE hit_id = ? AND superseded = 0", out.HitID).
+				Scan(&out.ResultID); err != nil {
+				return out, fmt.Errorf("current result of hit %d: %w", out.HitID, err)
+			}
+			state := StateDuplicate
+			if firstPath == in.fi.Path {
+				state, out.Repeat = StateAnalysed, true
+			} else {
+				out.Duplicate = true
+			}
+			return out, upsertFile(ctx, tx, in.fi, state, out.HitID, now)
+		case !errors.Is(err, sql.ErrNoRows):
+			return out, err
+		}
+
+		analysisID, err := analysisID(ctx, tx, in.res.AnalysisVersion, in.settings, now)
+		if err != nil {
+			return out, err
+		}
+		err = tx.QueryRowContext(ctx, `
+INSERT INTO hits (sha256, first_path, prototype, revision, bay, point, direction, hit_time, meta,
+                  format, channel, force_channel, sample_rate, duration, noise_rms, verdict, analysis_id, ingested_at)
+VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+ON CONFLICT (sha256) DO NOTHING
+RETURNING id`,
+			in.fi.SHA256, in.fi.Path, m.Prototype, m.Revision, m.Bay, m.Point, m.Direction, toNS(in.hitTime), in.extra,
+			in.res.Format, in.res.Channel, in.res.ForceChannel, sqlReal(in.res.SampleRate), sqlReal(in.res.DurationS), sqlReal(in.res.NoiseRMS),
+			string(in.res.Verdict), analysisID, toNS(now)).Scan(&out.HitID)
+		if errors.Is(err, sql.ErrNoRows) && pass == 0 {
+			continue // stored meanwhile by another writer
+		}
+		if err != nil {
+			return out, fmt.Errorf("inserting hit: %w", err)
+		}
+		if out.ResultID, err = insertResult(ctx, tx, out.HitID, analysisID, in.res, now); err != nil {
+			return out, err
+		}
+		return out, upsertFile(ctx, tx, in.fi, StateAnalysed, out.HitID, now)
+	}
 }
 
 // Supersede stores res as the new current result of the hit, in one
