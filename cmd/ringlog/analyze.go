@@ -4,12 +4,14 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"io/fs"
 	"fmt"
 	"io"
 	"strings"
 
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/process"
+	"github.com/ringlog/ringlog/pipeline/read"
 )
 
 func init() {
@@ -122,7 +124,15 @@ func analyseFile(ctx context.Context, path string, opt process.Options) (res *pi
 			res, err = nil, fmt.Errorf("%s: internal error while analysing: %v", path, p)
 		}
 	}()
-	res, err = process.File(ctx, path, opt)
+	data, err := read.ReadRegular(ctx, path, 0)
+	if err != nil {
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			return nil, &read.Error{File: path, Offset: -1, Problem: "cannot open", Err: pe.Err}
+		}
+		return nil, err
+	}
+	res, err = process.Data(ctx, path, data, opt)
 	if err == nil {
 		err = checkFinite(path, res)
 	}

@@ -14,6 +14,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/read"
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline/check"
@@ -215,7 +216,7 @@ func (c *Config) validate() error {
 		c.Workers = runtime.NumCPU()
 	}
 	if c.MaxFileSize <= 0 {
-		c.MaxFileSize = 1 << 30
+		c.MaxFileSize = read.DefaultMaxFileSize
 	}
 	if c.OpenRetries < 0 {
 		return fmt.Errorf("config %s: open_retries must not be negative", c.path)

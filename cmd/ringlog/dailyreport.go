@@ -40,6 +40,7 @@ func dailyOptions(cfg *Config, day time.Time, dbPath string) page.DailyOptions {
 	if cfg == nil {
 		return opt
 	}
+	opt.MaxFileSize = cfg.MaxFileSize
 	opt.Expected = func(prototype string) []rpt.Expected {
 		var out []rpt.Expected
 		for _, p := range cfg.Prototypes {

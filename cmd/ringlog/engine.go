@@ -121,7 +121,7 @@ func (e *engine) analyse(j job) (o outcome) {
 		o.err = fmt.Errorf("%s: file too large: %d MB, the limit (max_file_size) is %d MB", j.path, st.Size()>>20, limit>>20)
 		return o
 	}
-	data, err := os.ReadFile(j.path)
+	data, err := read.ReadRegular(context.Background(), j.path, e.cfg.MaxFileSize)
 	if err != nil {
 		o.err = err
 		return o

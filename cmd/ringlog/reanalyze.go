@@ -3,9 +3,9 @@ package main
 import (
 	"context"
 	"fmt"
-	"os"
 
 	"github.com/ringlog/ringlog/pipeline/process"
+	"github.com/ringlog/ringlog/pipeline/read"
 )
 
 func init() {
@@ -66,7 +66,7 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 		var data []byte
 		var used string
 		for _, p := range append([]string{sf.Path}, sf.Others...) {
-			b, err := os.ReadFile(p)
+			b, err := read.ReadRegular(ctx, p, cfg.MaxFileSize)
 			if err == nil && sha256Hex(b) == sf.SHA256 {
 				data, used = b, p
 				break

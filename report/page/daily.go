@@ -11,7 +11,6 @@ import (
 	"io"
 	"io/fs"
 	"math"
-	"os"
 	"runtime"
 	"slices"
 	"sort"
@@ -49,6 +48,9 @@ type DailyOptions struct {
 	// read it (WAV channel names, sensitivities, the force channel); nil
 	// reads with the zero read.Options.
 	Read func(h db.Hit) read.Options
+	// MaxFileSize caps the size of a hit's file read again for its plot
+	// (read.DefaultMaxFileSize when zero); only regular files are read.
+	MaxFileSize int64
 	// Generator names the program in the page footer, e.g. "ringlog 1.2".
 	Generator string
 	// Database is the database path shown in the footer.
@@ -643,6 +645,7 @@ type hitCard struct {
 	hit           db.Hit
 	paths         []string
 	read          read.Options
+	maxSize       int64
 	wantPlot      bool
 }
 
@@ -714,6 +717,7 @@ func spoiledCards(ctx context.Context, src Source, hits []db.Hit, since, until t
 		if opt.Read != nil {
 			c.read = opt.Read(h)
 		}
+		c.maxSize = opt.MaxFileSize
 		cards = append(cards, c)
 	}
 	if len(cards) == 0 {
@@ -774,7 +778,7 @@ func drawCard(ctx context.Context, c *hitCard) {
 	var path string
 	var gone, changed []string
 	for _, p := range c.paths {
-		b, err := os.ReadFile(p)
+		b, err := read.ReadRegular(ctx, p, c.maxSize)
 		if errors.Is(err, fs.ErrNotExist) {
 			gone = append(gone, p)
 			continue
