@@ -128,3 +128,25 @@ func TestAnalyzeResultCheckedFinite(t *testing.T) {
 		t.Errorf("finite result: %v", err)
 	}
 }
+
+// TestServiceInstallMessage: on a machine without systemd 'service
+// install' said it wrote a systemd unit while it wrote a SysV script
+// without restart on failure.
+func TestServiceInstallMessage(t *testing.T) {
+	sysv := installMessage("linux-sysv", "bay3", "/usr/local/bin/ringlog", "/etc/ringlog/bay3.toml")
+	for _, want := range []string{"no systemd", "/etc/init.d/bay3", "does not restart", "/usr/local/bin/ringlog watch --config /etc/ringlog/bay3.toml"} {
+		if !strings.Contains(sysv, want) {
+			t.Errorf("sysv message %q lacks %q", sysv, want)
+		}
+	}
+	if strings.Contains(sysv, "systemd unit") || strings.Contains(sysv, ".service") {
+		t.Errorf("sysv message claims a systemd unit: %q", sysv)
+	}
+	sd := installMessage("linux-systemd", "bay3", "/usr/local/bin/ringlog", "/etc/ringlog/bay3.toml")
+	if !strings.Contains(sd, "/etc/systemd/system/bay3.service") || !strings.Contains(sd, "Restart=on-failure") {
+		t.Errorf("systemd message %q", sd)
+	}
+	if other := installMessage("unix-systemv", "x", "/r", "/c"); !strings.Contains(other, "not systemd") {
+		t.Errorf("unknown system message %q", other)
+	}
+}

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"runtime"
 	"sync"
 	"time"
 
@@ -100,11 +99,8 @@ func runService(ctx context.Context, e *env, args []string) error {
 		}
 		fmt.Fprintf(e.stdout, "service %s: %s done (%s)\n", *name, action, service.ChosenSystem())
 		if action == "install" {
-			where := "the Windows service manager (recovery: restart after 5 s)"
-			if runtime.GOOS != "windows" {
-				where = "/etc/systemd/system/" + *name + ".service (Restart=on-failure, TimeoutStopSec=90)"
-			}
-			fmt.Fprintf(e.stdout, "registered in %s, running: %s\n", where, "ringlog watch --config "+abs)
+			exe, _ := os.Executable()
+			fmt.Fprint(e.stdout, installMessage(service.ChosenSystem().String(), *name, exe, abs))
 		}
 	case "status":
 		st, err := s.Status()
@@ -165,4 +161,29 @@ func runAsService(m *Main) error {
 		return err
 	}
 	return s.Run()
+}
+
+// installMessage says what 'service install' wrote and where, for the
+// service system kardianos/service chose, and says so plainly when it is
+// not systemd (then nothing restarts a daemon that fails).
+func installMessage(system, name, exe, cfg string) string {
+	run := fmt.Sprintf("%s watch --config %s", exe, cfg)
+	switch system {
+	case "linux-systemd":
+		return fmt.Sprintf("wrote the systemd unit /etc/systemd/system/%s.service (Restart=on-failure after 5 s, TimeoutStopSec=90) running: %s\n"+
+			"start it with 'ringlog service start' or 'systemctl start %s'\n", name, run, name)
+	case "windows-service":
+		return fmt.Sprintf("registered the Windows service %q (automatic start; recovery: restart after 5 s) running: %s\n", name, run)
+	case "linux-sysv":
+		return fmt.Sprintf("no systemd on this machine: wrote the SysV init script /etc/init.d/%s running: %s\n"+
+			"warning: SysV init does not restart the daemon when it fails; watch it with 'ringlog status'\n", name, run)
+	case "linux-openrc":
+		return fmt.Sprintf("no systemd on this machine: wrote the OpenRC init script /etc/init.d/%s running: %s\n"+
+			"warning: the script does not restart the daemon when it fails\n", name, run)
+	case "linux-upstart":
+		return fmt.Sprintf("no systemd on this machine: wrote the Upstart job /etc/init/%s.conf running: %s\n", name, run)
+	case "darwin-launchd":
+		return fmt.Sprintf("wrote the launchd job %s.plist (in /Library/LaunchDaemons as root, else ~/Library/LaunchAgents) running: %s\n", name, run)
+	}
+	return fmt.Sprintf("installed with the service system %q (not systemd; restart on failure is not set up by ringlog) running: %s\n", system, run)
 }
