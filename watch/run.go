@@ -529,11 +529,19 @@ func (w *Watcher) walk(i int, dir string, root bool, present map[string]struct{}
 		w.addWatch(dir)
 	}
 	entries, err := os.ReadDir(dir)
+	if root {
+		w.setHealth(i, err)
+		if err != nil {
+			delete(w.noWatch, dir) // try to watch it again once it is back
+		}
+	}
 	if err != nil {
 		if !root && errors.Is(err, fs.ErrNotExist) {
 			return true // removed while we walked
 		}
-		w.log.Warn().Err(err).Str("folder", dir).Msg("cannot read folder")
+		if !root {
+			w.log.Warn().Err(err).Str("folder", dir).Msg("cannot read folder")
+		}
 		return false
 	}
 	ok := true

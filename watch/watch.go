@@ -142,11 +142,53 @@ type Watcher struct {
 	stats     Stats
 	doneMu    sync.Mutex           // guards done (Forget runs on other goroutines)
 	done      map[string]doneEntry // handed out or known, by path
+	health    []FolderHealth       // per folder, guarded by statsMu
 	runState                       // owned by the goroutine in Run
 }
 
-// New validates cfg and returns a Watcher. Every folder must exist and be a
-// directory; the error names the folder otherwise. seen may be nil (nothing
+// FolderHealth is whether a watched folder could be read at its last scan.
+type FolderHealth struct {
+	Path    string    // absolute path of the folder
+	OK      bool      // the last scan read it
+	Problem string    // why it could not be read, when not OK
+	Since   time.Time // when it became what it is
+}
+
+// Health returns the state of each configured folder, in the order of
+// Config.Folders. Safe for concurrent use.
+func (w *Watcher) Health() []FolderHealth {
+	w.statsMu.Lock()
+	defer w.statsMu.Unlock()
+	return append([]FolderHealth(nil), w.health...)
+}
+
+// setHealth records the outcome of reading folder i's root and logs a
+// change (only a change, so an offline share does not fill the log).
+func (w *Watcher) setHealth(i int, err error) {
+	w.statsMu.Lock()
+	h := &w.health[i]
+	was := h.OK
+	h.OK = err == nil
+	h.Problem = ""
+	if err != nil {
+		h.Problem = err.Error()
+	}
+	if was != h.OK {
+		h.Since = time.Now()
+	}
+	w.statsMu.Unlock()
+	switch {
+	case was && err != nil:
+		w.log.Warn().Err(err).Str("folder", h.Path).Msg("watched folder cannot be read; looking again at every scan")
+	case !was && err == nil:
+		w.log.Info().Str("folder", h.Path).Msg("watched folder can be read again")
+	}
+}
+
+// New validates cfg and returns a Watcher. A folder that does not exist or
+// cannot be read yet (a share offline at boot) is a warning, and is looked
+// for again at every scan (see Health); a folder path that is a file is an
+// error naming it. seen may be nil (nothing
 // is known).
 func New(cfg Config, seen Seen) (*Watcher, error) {
 	if len(cfg.Folders) == 0 {
@@ -188,14 +230,13 @@ func New(cfg Config, seen Seen) (*Watcher, error) {
 			return nil, fmt.Errorf("watch: folder %q: %w", f.Path, err)
 		}
 		fi, err := os.Stat(abs)
-		if err != nil {
-			if errors.Is(err, os.ErrNotExist) {
-				return nil, fmt.Errorf("watch: folder %q does not exist: %w", f.Path, err)
-			}
-			return nil, fmt.Errorf("watch: folder %q: %w", f.Path, err)
-		}
-		if !fi.IsDir() {
+		if err == nil && !fi.IsDir() {
 			return nil, fmt.Errorf("watch: folder %q is not a directory", f.Path)
+		}
+		if err != nil {
+			// A recorder share offline at boot: look again at every scan.
+			cfg.Logger.Warn().Err(err).Str("folder", abs).
+				Msg("watched folder cannot be read now; it is looked for again at every scan")
 		}
 		for j, g := range w.folders {
 			if samePath(g.path, abs) {
@@ -218,6 +259,11 @@ func New(cfg Config, seen Seen) (*Watcher, error) {
 			lower = append(lower, lp)
 		}
 		w.folders = append(w.folders, folder{path: abs, recursive: f.Recursive, poll: f.Poll, include: lower})
+		h := FolderHealth{Path: abs, OK: err == nil, Since: time.Now()}
+		if err != nil {
+			h.Problem = err.Error()
+		}
+		w.health = append(w.health, h)
 	}
 	return w, nil
 }

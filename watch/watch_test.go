@@ -624,14 +624,12 @@ func TestNewErrors(t *testing.T) {
 	dir := t.TempDir()
 	file := filepath.Join(dir, "file.csv")
 	writeFile(t, file, 1)
-	missing := filepath.Join(dir, "no-such-export")
 	for _, tc := range []struct {
 		name string
 		cfg  watch.Config
 		want string // must appear in the error
 		is   error
 	}{
-		{"missing", watch.Config{Folders: []watch.Folder{{Path: missing}}}, missing, fs.ErrNotExist},
 		{"not a directory", watch.Config{Folders: []watch.Folder{{Path: file}}}, file + `" is not a directory`, nil},
 		{"no folders", watch.Config{}, "no folder", nil},
 		{"bad pattern", watch.Config{Folders: []watch.Folder{{Path: dir, Include: []string{"[a-"}}}}, `"[a-"`, filepath.ErrBadPattern},
@@ -671,4 +669,30 @@ func TestRunArguments(t *testing.T) {
 	if err := <-done; err != nil {
 		t.Errorf("Run after cancel: %v, want nil", err)
 	}
+}
+
+// TestMissingFolderRetried: a folder missing at start (a recorder share
+// offline at boot) used to stop New; it is now reported unhealthy and
+// watched from the scan that finds it.
+func TestMissingFolderRetried(t *testing.T) {
+	t.Parallel()
+	dir := filepath.Join(t.TempDir(), "share")
+	w := newWatcher(t, watch.Config{Folders: []watch.Folder{{Path: dir}}, ScanInterval: 50 * time.Millisecond}, nil)
+	if h := w.Health(); len(h) != 1 || h[0].OK || !strings.Contains(h[0].Problem, "share") {
+		t.Fatalf("health of a missing folder: %+v", h)
+	}
+	s, _ := run(t, w, 0)
+	if err := os.Mkdir(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	p := filepath.Join(dir, "hit.csv")
+	writeFile(t, p, 100)
+	waitFor(t, "the file in the folder that appeared", func() bool { return s.count(p) == 1 })
+	if h := w.Health(); !h[0].OK || h[0].Problem != "" {
+		t.Errorf("health once the folder is there: %+v", h)
+	}
+	if err := os.RemoveAll(dir); err != nil {
+		t.Fatal(err)
+	}
+	waitFor(t, "the folder reported gone", func() bool { return !w.Health()[0].OK })
 }

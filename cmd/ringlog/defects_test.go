@@ -150,3 +150,94 @@ func TestServiceInstallMessage(t *testing.T) {
 		t.Errorf("unknown system message %q", other)
 	}
 }
+
+// TestDaemonMissingFolderRetried: a watched folder missing at start (a
+// recorder share offline at boot) stopped the daemon; now it warns, looks
+// again at every scan and records the files once the folder is there.
+func TestDaemonMissingFolderRetried(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	missing := filepath.Join(dir, "share", "export")
+	dbPath := filepath.Join(dir, "h.db")
+	cfg := writeConfig(t, dir, daemonConfig{Database: dbPath, Folder: missing, Scan: "200ms"})
+	d := startDaemon(t, cfg)
+	d.waitReady(dbPath)
+	if !strings.Contains(d.stderr.String(), "cannot be read now") || !strings.Contains(d.stderr.String(), missing) {
+		t.Errorf("no warning naming the missing folder:\n%s", d.stderr.String())
+	}
+	stdout, _, _ := ringlog(t, "status", "--config", cfg)
+	if !strings.Contains(stdout, missing) || !strings.Contains(stdout, "cannot be read") {
+		t.Errorf("status does not show the folder's trouble:\n%s", stdout)
+	}
+	mkdir(t, missing)
+	writeFile(t, filepath.Join(missing, "hit.csv"), smallHitCSV(t, 5))
+	waitRecorded(t, dbPath, 1)
+	stdout, _, _ = ringlog(t, "status", "--config", cfg)
+	if !strings.Contains(stdout, missing) || strings.Contains(stdout, "cannot be read") {
+		t.Errorf("status once the folder is there:\n%s", stdout)
+	}
+	if code := d.stop(); code != 0 {
+		t.Errorf("exit status %d, want 0", code)
+	}
+}
+
+// TestDaemonRefusesDatabaseInWatchedFolder: the daemon read its own WAL
+// for ever when the database lay in a watched folder.
+func TestDaemonRefusesDatabaseInWatchedFolder(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	export := mkdir(t, filepath.Join(dir, "export"))
+	for _, dbPath := range []string{filepath.Join(export, "h.db"), filepath.Join(export, "sub", "h.db")} {
+		mkdir(t, filepath.Dir(dbPath))
+		cfg := writeConfig(t, dir, daemonConfig{Database: dbPath, Folder: export})
+		if strings.Contains(dbPath, "sub") {
+			b, _ := os.ReadFile(cfg)
+			writeFile(t, cfg, append(b, []byte("recursive = true\n")...))
+		}
+		d := startDaemon(t, cfg)
+		if code := d.wait(); code != exitFailure {
+			t.Errorf("%s: exit status %d, want %d", dbPath, code, exitFailure)
+		}
+		if msg := d.stderr.String(); !strings.Contains(msg, "inside the watched folder") {
+			t.Errorf("%s: message %q", dbPath, msg)
+		}
+		if fileExists(dbPath) {
+			t.Errorf("%s was created", dbPath)
+		}
+	}
+}
+
+// TestDaemonDatabaseDeletedOrReplaced: a database file deleted under the
+// running daemon was written into silently (and lost). The daemon now
+// notices a deleted or replaced file and stops non-zero naming it, so its
+// service manager restarts it on the file now there.
+func TestDaemonDatabaseDeletedOrReplaced(t *testing.T) {
+	t.Parallel()
+	for _, how := range []string{"deleted", "replaced"} {
+		t.Run(how, func(t *testing.T) {
+			t.Parallel()
+			s := newSetup(t, daemonConfig{})
+			d := startDaemon(t, s.cfgPath)
+			d.waitReady(s.dbPath)
+			writeFile(t, filepath.Join(s.export, "a.csv"), smallHitCSV(t, 11))
+			waitRecorded(t, s.dbPath, 1)
+			if how == "deleted" {
+				for _, suffix := range []string{"", "-wal", "-shm"} {
+					os.Remove(s.dbPath + suffix)
+				}
+			} else {
+				other := filepath.Join(s.dir, "other.db")
+				writeFile(t, other, []byte("not the daemon's database"))
+				if err := os.Rename(other, s.dbPath); err != nil {
+					t.Fatal(err)
+				}
+			}
+			if code := d.wait(); code != exitFailure {
+				t.Errorf("exit status %d, want %d", code, exitFailure)
+			}
+			if msg := d.stderr.String(); !strings.Contains(msg, "was "+how) || !strings.Contains(msg, s.dbPath) {
+				t.Errorf("message does not say the database %s was %s:\n%s", s.dbPath, how, tail(msg, 2000))
+			}
+		})
+	}
+}

@@ -47,6 +47,13 @@ type engine struct {
 	// recorded is called by the writer after each file is stored (progress
 	// lines, counters). It must not block for long.
 	recorded func(o outcome, rec db.Outcome, err error)
+	// guard, when set, is asked before each store; an error means nothing
+	// may be stored (the database file is gone) and becomes the file's
+	// store error.
+	guard func() error
+	// lastErr is the store error of the last file run stored, nil when
+	// that store succeeded: the state at the end of run.
+	lastErr error
 }
 
 func newEngine(cfg *Config, store *db.DB, log zerolog.Logger) *engine {
@@ -81,7 +88,15 @@ func (e *engine) run(ctx context.Context, jobs <-chan job) error {
 	var firstErr error
 	for o := range outs {
 		o.err = clipErr(o.err)
-		rec, err := e.store1(wctx, o)
+		var rec db.Outcome
+		var err error
+		if e.guard != nil {
+			err = e.guard()
+		}
+		if err == nil {
+			rec, err = e.store1(wctx, o)
+		}
+		e.lastErr = err
 		if err != nil {
 			e.log.Error().Err(err).Str("file", o.path).Msg("could not store result")
 			if firstErr == nil {

@@ -27,10 +27,15 @@ type env struct {
 
 var commands = map[string]command{}
 
+// stopSignals end a command the way Ctrl-C does: the daemon finishes the
+// files in hand and exits. SIGHUP (a closed terminal, or a service manager
+// asking for a reload) drains like SIGTERM rather than killing it.
+var stopSignals = []os.Signal{os.Interrupt, syscall.SIGTERM, syscall.SIGHUP}
+
 func register(c command) { commands[c.name] = c }
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signal.NotifyContext(context.Background(), stopSignals...)
 	defer stop()
 	e := &env{stdout: os.Stdout, stderr: os.Stderr, stdin: os.Stdin}
 	os.Exit(run(ctx, e, os.Args[1:]))

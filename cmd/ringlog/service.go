@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"os/signal"
 	"path/filepath"
 	"sync"
 	"time"
@@ -61,6 +62,13 @@ func serviceConfig(name, cfgPath string) *service.Config {
 			"OnFailureDelayDuration": "5s",
 			"OnFailureResetPeriod":   3600,
 			"StartType":              "automatic",
+			// Under a Unix service manager: SIGHUP drains like SIGTERM.
+			"RunWait": func() {
+				ch := make(chan os.Signal, 1)
+				signal.Notify(ch, stopSignals...)
+				<-ch
+				signal.Stop(ch)
+			},
 		},
 	}
 }

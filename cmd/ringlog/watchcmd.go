@@ -8,6 +8,8 @@ import (
 	"io/fs"
 	"net"
 	"os"
+	"path/filepath"
+	"strings"
 	"sync"
 	"time"
 
@@ -64,6 +66,10 @@ type Main struct {
 	watcher  *watch.Watcher
 	started  chan struct{}
 	once     sync.Once
+	dbFile   os.FileInfo // the database file opened, to notice it deleted or replaced
+
+	dbMu   sync.Mutex
+	dbLost error // set once the database file is found deleted or replaced
 
 	// Recorded, when set, is called after each file is stored.
 	Recorded func(o outcome, rec db.Outcome, err error)
@@ -89,6 +95,9 @@ func (m *Main) Open(ctx context.Context) (err error) {
 	if len(cfg.Folders) == 0 {
 		return fmt.Errorf("config %s: no [[folder]] to watch", cfg.path)
 	}
+	if err := dbOutsideFolders(cfg); err != nil {
+		return err
+	}
 	log, closeLog, err := newLogger(m.Stderr, cfg.LogFile, cfg.LogLevel)
 	if err != nil {
 		return err
@@ -99,6 +108,9 @@ func (m *Main) Open(ctx context.Context) (err error) {
 		return err
 	}
 	m.store = store
+	if m.dbFile, err = os.Stat(store.Path()); err != nil {
+		return fmt.Errorf("database %s: %w", store.Path(), err)
+	}
 	release, err := store.LockWriter()
 	if err != nil {
 		return err
@@ -158,6 +170,7 @@ func (m *Main) Started() <-chan struct{} { return m.started }
 func (m *Main) Run(ctx context.Context) error {
 	cfg := m.Config
 	eng := newEngine(cfg, m.store, m.Log)
+	eng.guard = m.checkDatabase
 	eng.recorded = func(o outcome, rec db.Outcome, err error) {
 		if err != nil {
 			// Not stored (database full, disk error): let the next scan
@@ -198,16 +211,121 @@ func (m *Main) Run(ctx context.Context) error {
 	liveDone := m.serveLive(wctx)
 	reports := make(chan struct{}) // the daily report writer (dailyreport.go)
 	go func() { defer close(reports); scheduleDaily(wctx, cfg, m.store, m.Log) }()
-	err := eng.run(ctx, jobs)
+	guardDone := make(chan struct{})
+	go func() { defer close(guardDone); m.guardDatabase(wctx, stopWatch) }()
+	_ = eng.run(ctx, jobs)
 	<-watchDone
 	stopWatch()
 	<-reports
 	liveDone()
+	<-guardDone
+	if lost := m.databaseLost(); lost != nil {
+		m.Log.Error().Err(lost).Msg("ringlog daemon stopped: its database is gone")
+		return lost
+	}
 	m.Log.Info().Msg("ringlog daemon stopped; work in hand finished")
 	if werr != nil && !errors.Is(werr, context.Canceled) {
 		return werr
 	}
-	return err
+	// The exit status says how things stand at the exit: a storage error
+	// that has since cleared (later files were stored) is no failure.
+	return eng.lastErr
+}
+
+// databaseCheckEvery is how often the daemon looks whether its database
+// file is still the one it opened.
+const databaseCheckEvery = time.Second
+
+// guardDatabase checks the database file every databaseCheckEvery until
+// ctx ends; when it is gone or replaced it stops the daemon via stop.
+func (m *Main) guardDatabase(ctx context.Context, stop func()) {
+	t := time.NewTicker(databaseCheckEvery)
+	defer t.Stop()
+	for {
+		select {
+		case <-ctx.Done():
+			return
+		case <-t.C:
+			if err := m.checkDatabase(); err != nil {
+				m.Log.Error().Err(err).Msg("stopping")
+				stop()
+				return
+			}
+		}
+	}
+}
+
+// checkDatabase returns an error once the database file at the configured
+// path is no longer the file the daemon opened (deleted, or replaced by
+// another file): what would be written from then on would be lost. The
+// error stays set.
+func (m *Main) checkDatabase() error {
+	if err := m.databaseLost(); err != nil {
+		return err
+	}
+	path := m.store.Path()
+	fi, err := os.Stat(path)
+	var lost error
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		lost = fmt.Errorf("database %s was deleted while the daemon ran; nothing more is written into the deleted file "+
+			"(a restart, by hand or by the service manager, opens a new one)", path)
+	case err != nil:
+		return nil // cannot tell now (a passing I/O error); the next look decides
+	case !os.SameFile(fi, m.dbFile):
+		lost = fmt.Errorf("database %s was replaced by another file while the daemon ran; nothing more is written "+
+			"(a restart, by hand or by the service manager, opens the file now there)", path)
+	default:
+		return nil
+	}
+	m.dbMu.Lock()
+	if m.dbLost == nil {
+		m.dbLost = lost
+	}
+	lost = m.dbLost
+	m.dbMu.Unlock()
+	return lost
+}
+
+func (m *Main) databaseLost() error {
+	m.dbMu.Lock()
+	defer m.dbMu.Unlock()
+	return m.dbLost
+}
+
+// dbOutsideFolders refuses a database (or its -wal and -shm files) inside
+// a watched folder: the daemon would read its own files for ever.
+func dbOutsideFolders(cfg *Config) error {
+	dbAbs, err := filepath.Abs(cfg.Database)
+	if err != nil {
+		return fmt.Errorf("config %s: database %s: %w", cfg.path, cfg.Database, err)
+	}
+	dbDir := resolved(filepath.Dir(dbAbs))
+	for _, f := range cfg.Folders {
+		fAbs, err := filepath.Abs(f.Path)
+		if err != nil {
+			continue
+		}
+		fAbs = resolved(fAbs)
+		rel, err := filepath.Rel(fAbs, dbDir)
+		if err != nil || rel == ".." || strings.HasPrefix(rel, ".."+string(filepath.Separator)) || filepath.IsAbs(rel) {
+			continue
+		}
+		if rel == "." || f.Recursive {
+			return fmt.Errorf("config %s: the database %s is inside the watched folder %s; "+
+				"put it outside every watched folder (the daemon would read its own files)", cfg.path, dbAbs, f.Path)
+		}
+	}
+	return nil
+}
+
+// resolved is p with symbolic links resolved where possible (a folder
+// reached through a link is the same folder).
+func resolved(p string) string {
+	if r, err := filepath.EvalSymlinks(p); err == nil {
+		return r
+	}
+	return p
 }
 
 // Close releases the lock and closes the database and the log.
