@@ -241,3 +241,38 @@ func TestDaemonDatabaseDeletedOrReplaced(t *testing.T) {
 		})
 	}
 }
+
+// TestStatusFailed: failed files were visible only as the last error;
+// 'status --failed' lists each with its error (also as JSON).
+func TestStatusFailed(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	dbPath := filepath.Join(dir, "h.db")
+	good, bad1, bad2 := filepath.Join(dir, "good.csv"), filepath.Join(dir, "bad1.csv"), filepath.Join(dir, "bad2.csv")
+	writeFile(t, good, smallHitCSV(t, 9))
+	writeFile(t, bad1, []byte("force,accel\n1,2\n3,oops\n"))
+	writeFile(t, bad2, append([]byte("# sample_rate: 1000\nforce,accel\n0,"), bytes.Repeat([]byte("z"), 1<<20)...))
+	ringlog(t, "ingest", "--db", dbPath, good, bad1, bad2)
+	stdout, stderr, code := ringlog(t, "status", "--db", dbPath, "--failed")
+	if code != 0 || !strings.Contains(stdout, bad1+": ") || !strings.Contains(stdout, bad2+": ") || strings.Contains(stdout, good) {
+		t.Errorf("status --failed: exit %d\n%s%s", code, stdout, stderr)
+	}
+	if len(stdout) > 2*maxErrorText+2000 {
+		t.Errorf("status --failed printed %d bytes: the 1 MB cell was not clipped", len(stdout))
+	}
+	stdout, _, _ = ringlog(t, "status", "--db", dbPath, "--failed", "--json")
+	var out struct {
+		Failed []struct {
+			File  string `json:"file"`
+			Error string `json:"error"`
+		} `json:"failed"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &out); err != nil || len(out.Failed) != 2 {
+		t.Fatalf("status --failed --json: %v: %s", err, stdout)
+	}
+	for _, f := range out.Failed {
+		if f.Error == "" || !strings.HasPrefix(f.Error, f.File) {
+			t.Errorf("failed entry %+v: the error should name the file", f)
+		}
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"os"
 	"time"
 
 	"github.com/ringlog/ringlog/db"
@@ -16,10 +17,11 @@ func init() {
 }
 
 func runStatus(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("status", "--db PATH | --config FILE [--json]", e.stderr)
+	fs := newFlags("status", "--db PATH | --config FILE [--failed] [--json]", e.stderr)
 	dbPath := fs.String("db", "", "history database")
 	cfgPath := fs.String("config", "", "TOML configuration naming the database")
 	asJSON := fs.Bool("json", false, "print one JSON object")
+	failedOnly := fs.Bool("failed", false, "list the files that could not be read or analysed, with their error")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -31,6 +33,12 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	var folders []folderHealth
+	if *cfgPath != "" {
+		if cfg, err := loadConfig(*cfgPath); err == nil {
+			folders = foldersHealth(cfg)
+		}
+	}
 	store, err := openExisting(ctx, path)
 	if err != nil {
 		return err
@@ -39,6 +47,27 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	st, err := store.Status(ctx)
 	if err != nil {
 		return err
+	}
+	if *failedOnly {
+		failed, err := store.FailedFiles(ctx, 0)
+		if err != nil {
+			return err
+		}
+		if *asJSON {
+			list := make([]map[string]any, 0, len(failed))
+			for _, f := range failed {
+				list = append(list, map[string]any{"file": f.Path, "error": read.Clip(f.Error, maxErrorText), "attempts": f.Attempts, "time": f.Updated})
+			}
+			writeJSONLine(e.stdout, map[string]any{"database": path, "failed": list})
+			return nil
+		}
+		if len(failed) == 0 {
+			fmt.Fprintf(e.stdout, "no failed files in %s\n", path)
+		}
+		for _, f := range failed {
+			fmt.Fprintf(e.stdout, "%s: %s (%s, %d attempt(s))\n", f.Path, read.Clip(f.Error, maxErrorText), f.Updated.Local().Format(time.DateTime), f.Attempts)
+		}
+		return nil
 	}
 	var held bool
 	var pid int
@@ -55,7 +84,10 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	if *asJSON {
 		out := map[string]any{
 			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "verdicts": st.Verdicts,
-			"daemon_running": held, "schema": st.Schema,
+			"daemon_running": held, "schema": st.Schema, "folders": nil,
+		}
+		if folders != nil {
+			out["folders"] = folders
 		}
 		if store.Postgres() {
 			list := []map[string]any{}
@@ -98,8 +130,35 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	default:
 		fmt.Fprintf(e.stdout, "daemon    not running\n")
 	}
+	for _, f := range folders {
+		if f.OK {
+			fmt.Fprintf(e.stdout, "folder    %s  ok\n", f.Path)
+		} else {
+			fmt.Fprintf(e.stdout, "folder    %s  cannot be read: %s\n", f.Path, f.Problem)
+		}
+	}
 	printStatus(e.stdout, st)
 	return nil
+}
+
+// folderHealth is one watched folder as status sees it.
+type folderHealth struct {
+	Path    string `json:"path"`
+	OK      bool   `json:"ok"`
+	Problem string `json:"problem"`
+}
+
+// foldersHealth looks at each configured folder: can it be read now?
+func foldersHealth(cfg *Config) []folderHealth {
+	out := make([]folderHealth, 0, len(cfg.Folders))
+	for _, f := range cfg.Folders {
+		h := folderHealth{Path: f.Path, OK: true}
+		if _, err := os.ReadDir(f.Path); err != nil {
+			h.OK, h.Problem = false, err.Error()
+		}
+		out = append(out, h)
+	}
+	return out
 }
 
 // printStatus writes the counts of a Status.
