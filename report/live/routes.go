@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io"
 	"net"
 	"net/http"
 	"strconv"
@@ -28,6 +29,8 @@ func (s *Server) routes() http.Handler {
 	mux.HandleFunc("GET /compare", s.compare)
 	mux.HandleFunc("GET /reports/{name}", s.reportFile)
 	mux.HandleFunc("GET "+LoginPath, s.login)
+	mux.HandleFunc("GET /favicon.svg", serveFavicon)
+	mux.HandleFunc("GET /favicon.ico", serveFavicon)
 	mux.HandleFunc("GET /", func(w http.ResponseWriter, r *http.Request) {
 		writeError(w, http.StatusNotFound, "not found")
 	})
@@ -291,3 +294,9 @@ func (s *Server) apiStatus(w http.ResponseWriter, r *http.Request) {
 }
 
 var errBusy = errors.New("busy")
+
+func serveFavicon(w http.ResponseWriter, r *http.Request) {
+	w.Header().Set("Content-Type", "image/svg+xml")
+	w.Header().Set("Cache-Control", "private, max-age=86400")
+	io.WriteString(w, favicon)
+}

@@ -103,6 +103,7 @@ var pageHead = `<!DOCTYPE html>
 <meta name="viewport" content="width=device-width,initial-scale=1">
 <meta name="referrer" content="no-referrer">
 <title>ringlog live</title>
+<link rel="icon" href="favicon.svg" type="image/svg+xml">
 <noscript><meta http-equiv="refresh" content="` + strconv.Itoa(refreshSeconds) + `"></noscript>
 <style>` + css + `</style>
 </head><body>
@@ -158,3 +159,6 @@ var mainTmpl = template.Must(template.New("main").Parse(`<div data-title="{{if .
 </div>
 </div>
 {{define "band"}}<span class="bandt">campaign {{.Text}} · <span class="judge {{if .Inside}}in{{else}}out{{end}}">{{.Judgement}}</span></span><svg class="band" viewBox="0 0 100 10" preserveAspectRatio="none" aria-hidden="true"><rect x="0" y="4" width="100" height="2" fill="#ddd"/><rect x="{{.Lo}}" y="1" width="{{.W}}" height="8" fill="#9ab"/>{{if ge .CILo 0.0}}<rect x="{{.CILo}}" y="4" width="{{.CIW}}" height="2" fill="#111"/>{{end}}{{if ge .X 0.0}}<rect x="{{.X}}" y="0" width="0.8" height="10" fill="#111"/>{{end}}</svg>{{end}}`))
+
+// favicon is the page's icon: a decaying ring, drawn by us.
+const favicon = `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 32 32"><rect width="32" height="32" rx="5" fill="#111"/><path d="M3 16 Q6 3 9 16 T15 16 T21 16 T27 16" fill="none" stroke="#fff" stroke-width="3" stroke-linecap="round"/></svg>`
