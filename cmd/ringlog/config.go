@@ -41,7 +41,11 @@ func (d duration) MarshalText() ([]byte, error) { return []byte(d.String()), nil
 // Config is the TOML configuration file. The keys database, [[folder]]
 // path, prototype and revision are a contract that scripts rely on.
 type Config struct {
-	Database     string   `toml:"database"`
+	Database string `toml:"database"`
+	// Spool, Bay and PasswordFile are for a PostgreSQL database (lab.go).
+	Spool        string   `toml:"spool"`
+	Bay          string   `toml:"bay"`
+	PasswordFile string   `toml:"password_file"`
 	LogFile      string   `toml:"log_file"`
 	LogLevel     string   `toml:"log_level"`
 	Settle       duration `toml:"settle"`
@@ -164,6 +168,9 @@ func (c *Config) validate() error {
 	}
 	if !db.IsPostgres(c.Database) {
 		c.Database = abs(c.Database)
+	}
+	if err := c.validateLab(abs); err != nil {
+		return err
 	}
 	c.LogFile = abs(c.LogFile)
 	c.Report.Folder = abs(c.Report.Folder)

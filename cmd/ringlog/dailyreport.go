@@ -31,6 +31,9 @@ func reportFolder(cfg *Config) string {
 	if cfg.Report.Folder != "" {
 		return cfg.Report.Folder
 	}
+	if db.IsPostgres(cfg.Database) {
+		return filepath.Dir(cfg.Spool)
+	}
 	return filepath.Dir(cfg.Database)
 }
 

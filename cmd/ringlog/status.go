@@ -39,11 +39,24 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 			folders = foldersHealth(cfg)
 		}
 	}
+	spoolPath, fst := labSpoolStatus(ctx, *cfgPath) // a lab bay: its spool's backlog (lab.go)
 	store, err := openExisting(ctx, path)
 	if err != nil {
+		if fst != nil { // the central history is away: the spool still answers
+			if *asJSON {
+				writeJSONLine(e.stdout, map[string]any{"database": path, "error": err.Error(), "forwarding": forwardJSON(spoolPath, *fst)})
+			} else {
+				printForwardStatus(e.stdout, spoolPath, *fst)
+			}
+		}
 		return err
 	}
 	defer store.Close()
+	if fst == nil && !store.Postgres() {
+		if fs, err := store.ForwardStatus(ctx); err == nil && fs.Spool {
+			spoolPath, fst = path, &fs
+		}
+	}
 	st, err := store.Status(ctx)
 	if err != nil {
 		return err
@@ -101,6 +114,9 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 				out["daemon_since"] = since
 			}
 		}
+		if fst != nil {
+			out["forwarding"] = forwardJSON(spoolPath, *fst)
+		}
 		if st.LastHit != nil {
 			out["last_hit"] = map[string]any{"file": st.LastHit.Path, "hit_time": st.LastHit.HitTime, "ingested_at": st.LastHit.IngestedAt, "verdict": st.LastHit.Verdict}
 		}
@@ -138,6 +154,9 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	printStatus(e.stdout, st)
+	if fst != nil {
+		printForwardStatus(e.stdout, spoolPath, *fst)
+	}
 	return nil
 }
 

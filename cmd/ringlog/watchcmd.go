@@ -17,6 +17,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/db/forward"
 	"github.com/ringlog/ringlog/report/live"
 	"github.com/ringlog/ringlog/watch"
 )
@@ -74,6 +75,8 @@ type Main struct {
 	// Recorded, when set, is called after each file is stored.
 	Recorded func(o outcome, rec db.Outcome, err error)
 
+	fwd *forward.Forwarder // forwards the spool to a PostgreSQL history (lab.go); nil for SQLite
+
 	live    *live.Server // the [live] page (live.go); nil without one
 	liveLn  net.Listener
 	liveURL string
@@ -103,19 +106,14 @@ func (m *Main) Open(ctx context.Context) (err error) {
 		return err
 	}
 	m.Log, m.closeLog = log, closeLog
-	store, err := db.Open(ctx, cfg.Database)
+	store, release, fwd, err := openDaemonStore(ctx, cfg, log)
 	if err != nil {
 		return err
 	}
-	m.store = store
+	m.store, m.release, m.fwd = store, release, fwd
 	if m.dbFile, err = os.Stat(store.Path()); err != nil {
 		return fmt.Errorf("database %s: %w", store.Path(), err)
 	}
-	release, err := store.LockWriter()
-	if err != nil {
-		return err
-	}
-	m.release = release
 	if err := m.openLive(); err != nil {
 		return err
 	}
@@ -180,6 +178,9 @@ func (m *Main) Run(ctx context.Context) error {
 		if m.live != nil {
 			m.live.Notify()
 		}
+		if m.fwd != nil {
+			m.fwd.Kick()
+		}
 		if m.Recorded != nil {
 			m.Recorded(o, rec, err)
 		}
@@ -209,6 +210,7 @@ func (m *Main) Run(ctx context.Context) error {
 		Dur("settle", cfg.Settle.Duration).Msg("ringlog daemon started")
 	m.once.Do(func() { close(m.started) })
 	liveDone := m.serveLive(wctx)
+	fwdDone := m.runForwarder(ctx)
 	reports := make(chan struct{}) // the daily report writer (dailyreport.go)
 	go func() { defer close(reports); scheduleDaily(wctx, cfg, m.store, m.Log) }()
 	guardDone := make(chan struct{})
@@ -218,6 +220,7 @@ func (m *Main) Run(ctx context.Context) error {
 	stopWatch()
 	<-reports
 	liveDone()
+	fwdDone()
 	<-guardDone
 	if lost := m.databaseLost(); lost != nil {
 		m.Log.Error().Err(lost).Msg("ringlog daemon stopped: its database is gone")
@@ -296,9 +299,13 @@ func (m *Main) databaseLost() error {
 // dbOutsideFolders refuses a database (or its -wal and -shm files) inside
 // a watched folder: the daemon would read its own files for ever.
 func dbOutsideFolders(cfg *Config) error {
-	dbAbs, err := filepath.Abs(cfg.Database)
+	local := cfg.Database
+	if db.IsPostgres(local) {
+		local = cfg.Spool // a lab bay's local file is its spool (lab.go)
+	}
+	dbAbs, err := filepath.Abs(local)
 	if err != nil {
-		return fmt.Errorf("config %s: database %s: %w", cfg.path, cfg.Database, err)
+		return fmt.Errorf("config %s: database %s: %w", cfg.path, local, err)
 	}
 	dbDir := resolved(filepath.Dir(dbAbs))
 	for _, f := range cfg.Folders {
@@ -334,6 +341,10 @@ func (m *Main) Close() error {
 	if m.liveLn != nil {
 		m.liveLn.Close()
 		m.liveLn = nil
+	}
+	if m.fwd != nil {
+		errs = append(errs, m.fwd.Close())
+		m.fwd = nil
 	}
 	if m.release != nil {
 		errs = append(errs, m.release())
