@@ -319,7 +319,8 @@ type protoView struct {
 	Campaign  string // what the campaign is: hits and dates
 	Modes     []modeView
 	Rayleigh  []rayleighView
-	Note      string // unmatched modes, thinned points
+	Note      string      // unmatched modes, thinned points
+	Levels    []levelView // damping against the excitation level (amplitude.go)
 }
 
 type revSwatch struct {
@@ -437,6 +438,7 @@ func prototypeView(ctx context.Context, src Source, proto string, since, until t
 		notes = append(notes, "Campaign points thinned to keep the page small ("+strings.Join(thinned, "; ")+"); the day's hits are all drawn and the statistics use every hit.")
 	}
 	pv.Note = strings.Join(notes, " ")
+	pv.Levels = levelViews(id, hits, revs, revClass)
 	// Rayleigh coefficients of the revisions hit today.
 	for ri, rs := range stats {
 		hitToday := false

@@ -101,9 +101,13 @@ func TestDailyBigDay(t *testing.T) {
 			t.Errorf("page lacks %q", want)
 		}
 	}
-	// 3 modes x (damping, frequency) + Rayleigh of A and B + the decays.
-	if n := strings.Count(page, "<svg"); n != 6+2+sum.Plotted {
-		t.Errorf("%d plots, want %d", n, 6+2+sum.Plotted)
+	// 3 modes x (damping, frequency) + Rayleigh of A and B + the decays
+	// + 3 modes' damping against the excitation level.
+	if n := strings.Count(page, "<svg"); n != 6+2+sum.Plotted+3 {
+		t.Errorf("%d plots, want %d", n, 6+2+sum.Plotted+3)
+	}
+	if n := strings.Count(page, "Damping against the excitation level"); n != 1 {
+		t.Errorf("the damping-against-level section appears %d times, want once (one prototype)", n)
 	}
 	ids := map[string]int{}
 	for _, m := range regexp.MustCompile(`\sid="([^"]*)"`).FindAllStringSubmatch(page, -1) {

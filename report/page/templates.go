@@ -200,6 +200,7 @@ const dailyBody = `<header class="mast">
 <div class="figs">{{with .Damping}}<figure>{{.}}<figcaption>Damping ratio over the campaign.</figcaption></figure>{{end}}{{with .Frequency}}<figure>{{.}}<figcaption>Natural frequency over the campaign.</figcaption></figure>{{end}}</div>
 </div>{{end}}
 {{with $p.Note}}<p class="note">{{.}}</p>{{end}}
+{{template "levels" $p.Levels}}
 {{with $p.Rayleigh}}<h3>Rayleigh coefficients of {{$p.Name}}</h3>
 <p class="lede">ζ(ω) = α/(2ω) + βω/2 with ω in rad/s, fitted to the mean damping of each mode over the campaign, weighted by its uncertainty; α and β not negative. Intervals 95 %.</p>
 {{range .}}<div class="rayleigh">
@@ -306,6 +307,7 @@ func mustPage(name, body string) *template.Template {
 	t := template.New(name).Funcs(funcs)
 	template.Must(t.New("css").Parse(css))
 	template.Must(t.Parse(cautionsBlock))
+	template.Must(t.Parse(levelsBlock))
 	return template.Must(t.New(name).Parse(head + body + foot))
 }
 
