@@ -7,7 +7,10 @@ package db
 import (
 	"context"
 	"database/sql"
+	"errors"
 	"fmt"
+	"runtime"
+	"sync"
 
 	"github.com/ringlog/ringlog/pipeline"
 )
@@ -62,31 +65,61 @@ ORDER BY h.hit_time, h.id`+f.limit(), args...)
 			return err
 		}
 		rows.Close()
-		byResult := make(map[int64]*Hit, len(hits))
 		for i := range hits {
 			hits[i].Result = &results[i]
-			byResult[hits[i].ResultID] = &hits[i]
-		}
-		for lo := 0; lo < len(hits); lo += lightChunk {
-			hi := min(lo+lightChunk, len(hits))
-			ids := make([]any, 0, hi-lo)
-			for _, h := range hits[lo:hi] {
-				ids = append(ids, h.ResultID)
-			}
-			if err := loadLightModes(ctx, tx, ids, byResult, &in); err != nil {
-				return err
-			}
-			if err := loadLightReasons(ctx, tx, ids, byResult, &in); err != nil {
-				return err
-			}
 		}
 		return nil
 	})
 	if err != nil {
 		return nil, err
 	}
-	return hits, nil
+	return hits, db.loadStatsDetails(ctx, hits)
 }
+
+// loadStatsDetails fills the modes and reasons of the hits, in chunks of
+// lightChunk results spread over up to statsWorkers read transactions
+// running at once. A result's modes and reasons never change once stored
+// (a reanalysis adds a new result), so reading them in transactions other
+// than the one that found the hits gives the same values.
+func (db *DB) loadStatsDetails(ctx context.Context, hits []Hit) error {
+	byResult := make(map[int64]*Hit, len(hits))
+	for i := range hits {
+		byResult[hits[i].ResultID] = &hits[i]
+	}
+	chunks := (len(hits) + lightChunk - 1) / lightChunk
+	workers := min(runtime.GOMAXPROCS(0), statsWorkers, chunks)
+	errs := make([]error, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			in := interner{}
+			errs[w] = db.read(ctx, "querying modes for statistics", func(tx *sql.Tx) error {
+				for c := w; c < chunks; c += workers {
+					lo, hi := c*lightChunk, min((c+1)*lightChunk, len(hits))
+					ids := make([]any, 0, hi-lo)
+					for _, h := range hits[lo:hi] {
+						ids = append(ids, h.ResultID)
+					}
+					if err := loadLightModes(ctx, tx, ids, byResult, &in); err != nil {
+						return err
+					}
+					if err := loadLightReasons(ctx, tx, ids, byResult, &in); err != nil {
+						return err
+					}
+				}
+				return nil
+			})
+		}()
+	}
+	wg.Wait()
+	return errors.Join(errs...)
+}
+
+// statsWorkers bounds the read transactions loadStatsDetails runs at once
+// (the SQLite read pool holds four connections).
+const statsWorkers = 2
 
 // lightChunk is how many result ids go into one IN (...) list of the
 // statistics' queries.

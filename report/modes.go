@@ -485,16 +485,10 @@ func (id *Identified) collectLabels(exp []Expected) {
 // median returns the median of x (the mean of the two middle values when
 // len(x) is even), NaN for no values. x is not modified. (gonum's
 // stat.Quantile at 0.5 returns the lower middle value for even len(x),
-// not the textbook median.)
+// not the textbook median.) It selects rather than sorts: O(n).
 func median(x []float64) float64 {
 	if len(x) == 0 {
 		return math.NaN()
 	}
-	s := slices.Clone(x)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return (s[n/2-1] + s[n/2]) / 2
+	return medianInPlace(slices.Clone(x))
 }

@@ -238,6 +238,10 @@ type RevisionStats struct {
 // the order of the revisions' first hits and of the modes' frequencies.
 func Stats(id *Identified) []RevisionStats {
 	var out []RevisionStats
+	hitIndex := make(map[int64]HitRef, len(id.Hits))
+	for _, h := range id.Hits {
+		hitIndex[h.ID] = h
+	}
 	for _, rev := range id.Revisions() {
 		rs := RevisionStats{Revision: rev, Unmatched: id.Unmatched(rev), Excluded: id.Excluded[rev]}
 		used := map[int64]bool{}
@@ -259,7 +263,7 @@ func Stats(id *Identified) []RevisionStats {
 			if len(obs) == 0 {
 				continue
 			}
-			rs.Modes = append(rs.Modes, modeStats(l, obs, id.Hits))
+			rs.Modes = append(rs.Modes, modeStats(l, obs, hitIndex))
 		}
 		out = append(out, rs)
 	}
@@ -271,7 +275,7 @@ func ModeStats(l ModeLabel, obs []Observation) ModeStat {
 	return modeStats(l, obs, nil)
 }
 
-func modeStats(l ModeLabel, obs []Observation, hits []HitRef) ModeStat {
+func modeStats(l ModeLabel, obs []Observation, byID map[int64]HitRef) ModeStat {
 	ms := ModeStat{ModeLabel: l, Name: l.Name(), Obs: obs, Outliers: []Outlier{}}
 	z := make([]float64, len(obs))
 	f := make([]float64, len(obs))
@@ -301,10 +305,6 @@ func modeStats(l ModeLabel, obs []Observation, hits []HitRef) ModeStat {
 			ms.Outliers = append(ms.Outliers, Outlier{Quantity: q.name, Value: q.x[i], Median: q.med,
 				Score: math.Abs(q.x[i]-q.med) / mad, HitID: obs[i].HitID, File: obs[i].File, SHA256: obs[i].SHA256})
 		}
-	}
-	byID := map[int64]HitRef{}
-	for _, h := range hits {
-		byID[h.ID] = h
 	}
 	for _, o := range obs {
 		h, ok := byID[o.HitID]

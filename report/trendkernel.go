@@ -192,11 +192,21 @@ func countAtOrBelow(s []float64, v float64) int64 {
 }
 
 // medianInPlace returns the median of s (the mean of the two middle
-// values for an even length) by selection; s is reordered.
+// values for an even length) by selection; s is reordered. With a NaN in
+// s it sorts instead (NaN first, as sort.Float64s orders it).
 func medianInPlace(s []float64) float64 {
 	n := len(s)
 	if n == 0 {
 		return math.NaN()
+	}
+	for _, v := range s {
+		if v != v {
+			sort.Float64s(s)
+			if n%2 == 1 {
+				return s[n/2]
+			}
+			return (s[n/2-1] + s[n/2]) / 2
+		}
 	}
 	hi := selectK(s, n/2)
 	if n%2 == 1 {

@@ -189,3 +189,39 @@ func BenchmarkSen50k(b *testing.B) {
 		SenSlopeDetail(tt, x)
 	}
 }
+
+// TestMedianSelectEqualsSort: the median by selection equals the median of
+// the sorted values, with ties, even and odd lengths, infinities and NaN.
+func TestMedianSelectEqualsSort(t *testing.T) {
+	r := rand.New(rand.NewPCG(11, 12))
+	sorted := func(x []float64) float64 {
+		s := append([]float64(nil), x...)
+		sort.Float64s(s)
+		n := len(s)
+		if n%2 == 1 {
+			return s[n/2]
+		}
+		return (s[n/2-1] + s[n/2]) / 2
+	}
+	for _, n := range []int{1, 2, 3, 4, 5, 10, 33, 1000, 1001} {
+		for _, kind := range []string{"normal", "ties", "inf", "nan"} {
+			x := make([]float64, n)
+			for i := range x {
+				x[i] = r.NormFloat64()
+				if kind == "ties" {
+					x[i] = math.Round(x[i])
+				}
+			}
+			if kind == "inf" {
+				x[0] = math.Inf(1)
+			}
+			if kind == "nan" {
+				x[n/2] = math.NaN()
+			}
+			got, want := median(x), sorted(x)
+			if got != want && !(math.IsNaN(got) && math.IsNaN(want)) {
+				t.Errorf("n=%d %s: median %v, sorted %v", n, kind, got, want)
+			}
+		}
+	}
+}
