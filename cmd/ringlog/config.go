@@ -158,7 +158,29 @@ func loadConfig(path string) (*Config, error) {
 	return cfg, cfg.validate()
 }
 
+// checkPath refuses a path with a control character: in a TOML basic
+// string "C:\ringlog\test.db" reads as a carriage return and a tab.
+func (c *Config) checkPath(key, p string) error {
+	for i, r := range p {
+		if r < 0x20 || r == 0x7f {
+			return fmt.Errorf("config %s: %s %q holds a control character (byte %d): in a TOML string in double quotes a backslash starts an escape "+
+				"(\\r, \\t, ...); write the path with forward slashes (\"C:/ringlog/test.db\") or in single quotes ('C:\\ringlog\\test.db')",
+				c.path, key, p, i)
+		}
+	}
+	return nil
+}
+
 func (c *Config) validate() error {
+	paths := []struct{ key, p string }{{"database", c.Database}, {"log_file", c.LogFile}, {"report folder", c.Report.Folder}}
+	for _, f := range c.Folders {
+		paths = append(paths, struct{ key, p string }{"folder path", f.Path})
+	}
+	for _, x := range paths {
+		if err := c.checkPath(x.key, x.p); err != nil {
+			return err
+		}
+	}
 	dir := filepath.Dir(c.path)
 	abs := func(p string) string {
 		if p == "" || filepath.IsAbs(p) {

@@ -6,6 +6,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -15,6 +16,7 @@ import (
 	"testing"
 
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/read"
 )
 
@@ -274,5 +276,119 @@ func TestStatusFailed(t *testing.T) {
 		if f.Error == "" || !strings.HasPrefix(f.Error, f.File) {
 			t.Errorf("failed entry %+v: the error should name the file", f)
 		}
+	}
+}
+
+// TestDaemonExitStatusAtExit: after a storage error that has since
+// cleared, the daemon's exit status stayed 1. A write lock held by another
+// process past the busy timeout makes one store fail; the file is stored
+// at the next scan, and a stop then exits 0.
+func TestDaemonExitStatusAtExit(t *testing.T) {
+	if testing.Short() {
+		t.Skip("waits out the database busy timeout (10 s)")
+	}
+	t.Parallel()
+	s := newSetup(t, daemonConfig{})
+	d := startDaemon(t, s.cfgPath)
+	d.waitReady(s.dbPath)
+	other, err := sql.Open("sqlite", s.dbPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer other.Close()
+	ctx := context.Background()
+	conn, err := other.Conn(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := conn.ExecContext(ctx, "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+	writeFile(t, filepath.Join(s.export, "a.csv"), smallHitCSV(t, 21))
+	waitFor(t, "a store error while the lock is held", func() (bool, string) {
+		return strings.Contains(d.stderr.String(), "could not store result"), tail(d.stderr.String(), 500)
+	})
+	if _, err := conn.ExecContext(ctx, "ROLLBACK"); err != nil {
+		t.Fatal(err)
+	}
+	conn.Close()
+	waitRecorded(t, s.dbPath, 1)
+	if code := d.stop(); code != 0 {
+		t.Errorf("exit status %d after the storage error cleared, want 0", code)
+	}
+}
+
+// TestHelpShowsDoubleDash: -h showed "-flag" while the README and the
+// synopsis show "--flag".
+func TestHelpShowsDoubleDash(t *testing.T) {
+	for _, c := range []string{"analyze", "watch", "status", "ingest", "rules"} {
+		var o, e bytes.Buffer
+		code := run(context.Background(), &env{stdout: &o, stderr: &e, stdin: strings.NewReader("")}, []string{c, "-h"})
+		if code != exitOK {
+			t.Errorf("%s -h: exit %d", c, code)
+		}
+		lines := strings.Split(e.String(), "\n")
+		n := 0
+		for _, l := range lines {
+			if strings.HasPrefix(l, "  -") {
+				n++
+				if !strings.HasPrefix(l, "  --") {
+					t.Errorf("%s -h: option line %q has one dash", c, l)
+				}
+			}
+		}
+		if n == 0 {
+			t.Errorf("%s -h lists no option:\n%s", c, e.String())
+		}
+	}
+}
+
+// TestRulesShowValues: 'ringlog rules' named the thresholds without the
+// default values the README promised; with --config it shows the values in
+// force beside the defaults.
+func TestRulesShowValues(t *testing.T) {
+	dir := t.TempDir()
+	def := check.DefaultThresholds().ClipFlatRun
+	cfg := filepath.Join(dir, "c.toml")
+	writeFile(t, cfg, []byte(fmt.Sprintf("database = \"h.db\"\n[[folder]]\npath = \".\"\n[thresholds]\nclip_flat_run = %d\n", def+4)))
+	var o, e bytes.Buffer
+	if code := run(context.Background(), &env{stdout: &o, stderr: &e}, []string{"rules"}); code != 0 {
+		t.Fatalf("rules: exit %d: %s", code, e.String())
+	}
+	if want := fmt.Sprintf("clip_flat_run = %d\n", def); !strings.Contains(o.String(), want) {
+		t.Errorf("rules does not show %q:\n%s", want, o.String())
+	}
+	if strings.Contains(o.String(), "not set") {
+		t.Errorf("a threshold without a value:\n%s", o.String())
+	}
+	o.Reset()
+	if code := run(context.Background(), &env{stdout: &o, stderr: &e}, []string{"rules", "--config", cfg}); code != 0 {
+		t.Fatalf("rules --config: exit %d: %s", code, e.String())
+	}
+	if want := fmt.Sprintf("clip_flat_run = %d (default %d)", def+4, def); !strings.Contains(o.String(), want) {
+		t.Errorf("rules --config does not show %q:\n%s", want, o.String())
+	}
+}
+
+// TestConfigControlCharacterInPath: database = "C:\ringlog\test.db" in
+// TOML silently became a path with a carriage return and a tab in it.
+func TestConfigControlCharacterInPath(t *testing.T) {
+	dir := t.TempDir()
+	for _, body := range []string{
+		"database = \"C:\\ringlog\\test.db\"\n[[folder]]\npath = \".\"\n",
+		"database = \"h.db\"\n[[folder]]\npath = \"D:\\export\\new\"\n",
+	} {
+		p := filepath.Join(dir, "c.toml")
+		writeFile(t, p, []byte(body))
+		_, err := loadConfig(p)
+		if err == nil || !strings.Contains(err.Error(), "control character") || !strings.Contains(err.Error(), "forward slashes") ||
+			!strings.Contains(err.Error(), "single quotes") {
+			t.Errorf("%q: err = %v", body, err)
+		}
+	}
+	p := filepath.Join(dir, "ok.toml")
+	writeFile(t, p, []byte("database = 'C:\\ringlog\\test.db'\n[[folder]]\npath = \"D:/export\"\n"))
+	if _, err := loadConfig(p); err != nil {
+		t.Errorf("single quotes and forward slashes: %v", err)
 	}
 }

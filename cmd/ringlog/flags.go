@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"flag"
+	"fmt"
 	"io"
 	"strings"
 )
@@ -13,9 +14,35 @@ func newFlags(name, synopsis string, stderr io.Writer) *flag.FlagSet {
 	fs.SetOutput(stderr)
 	fs.Usage = func() {
 		io.WriteString(stderr, "usage: ringlog "+name+" "+synopsis+"\n\noptions:\n")
-		fs.PrintDefaults()
+		printDefaults(stderr, fs)
 	}
 	return fs
+}
+
+// printDefaults is flag.PrintDefaults with the two dashes the README and
+// the synopsis use ("--config FILE"); the flag package accepts both.
+func printDefaults(w io.Writer, fs *flag.FlagSet) {
+	fs.VisitAll(func(f *flag.Flag) {
+		var b strings.Builder
+		b.WriteString("  --")
+		b.WriteString(f.Name)
+		name, usage := flag.UnquoteUsage(f)
+		if name != "" {
+			b.WriteString(" ")
+			b.WriteString(name)
+		}
+		b.WriteString("\n    \t")
+		b.WriteString(strings.ReplaceAll(usage, "\n", "\n    \t"))
+		if d := f.DefValue; d != "" && d != "false" && d != "0" && d != "[]" {
+			if name == "string" {
+				b.WriteString(fmt.Sprintf(" (default %q)", d))
+			} else {
+				b.WriteString(" (default " + d + ")")
+			}
+		}
+		b.WriteString("\n")
+		io.WriteString(w, b.String())
+	})
 }
 
 // parseInterleaved parses flags that may appear before, between or after
