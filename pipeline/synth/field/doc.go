@@ -8,9 +8,9 @@
 // record's rate, default 8):
 //
 //  1. structure: each mode is a unit-mass modal oscillator
-//     q” + 2 zeta w q' + w^2 q + c3 q'^3 + mu sgn(q') = g F(t),
+//     a + 2 zeta w v + w^2 q + c3 v^3 + mu sgn(v) = g F(t), v = dq/dt, a = dv/dt,
 //     integrated with the classical fourth-order Runge-Kutta method; the
-//     response is the acceleration sum of q” over the modes, computed from
+//     response is the sum of the accelerations a over the modes, computed from
 //     the state (not differentiated). c3 (cubic damping) and mu (Coulomb
 //     friction, with sgn regularised as tanh(v/v_eps)) make the damping
 //     depend on amplitude; Mode documents their equivalent damping ratio.

@@ -61,6 +61,10 @@ type Spec struct {
 	Modes  []Mode
 	Hammer Hammer
 	Rattle *Rattle // nil: none
+	// PreviousHitS > 0: the same strike also came this long before the
+	// first contact, so the structure still rings when the record starts
+	// (its force pulse is on the force channel only if inside the record).
+	PreviousHitS float64
 
 	Sensor            Sensor
 	Hum               Hum
@@ -117,9 +121,14 @@ func Generate(s Spec) (*Record, error) {
 	rng := rand.New(rand.NewPCG(s.Seed, 0xf1e1d))
 
 	// 1-2. structure, hammer, rattle
+	hammer := s.Hammer.force
+	if p := s.PreviousHitS; p > 0 {
+		hammer = func(t float64) float64 { return s.Hammer.force(t) + s.Hammer.force(t+p) }
+	}
 	osc := make([]*oscillator, len(s.Modes))
 	for i, m := range s.Modes {
 		osc[i] = newModeOscillator(m, s.Hammer)
+		osc[i].force = hammer
 	}
 	all := osc
 	if rt := s.Rattle; rt != nil {
@@ -128,7 +137,14 @@ func Generate(s Spec) (*Record, error) {
 		ro.force = func(t float64) float64 { return knock.force(t - rt.TimeS) }
 		all = append(append([]*oscillator{}, osc...), ro)
 	}
-	resp := integrate(all, s.PreTrigger, s.Hammer.ContactS, h, no)
+	lead := 0 // samples integrated before the record starts
+	if s.PreviousHitS > s.PreTrigger {
+		lead = int(math.Ceil((s.PreviousHitS - s.PreTrigger) * fso))
+	}
+	resp := integrate(all, s.PreTrigger+float64(lead)*h, s.Hammer.ContactS, h, no+lead)[lead:]
+	for _, o := range all {
+		o.endT -= float64(lead) * h
+	}
 
 	// 3. sensor noise and AC coupling
 	noise := sensorNoise(rng, no, fso, s.Sensor.NoiseDensity, s.Sensor.PinkCornerHz)
@@ -162,7 +178,7 @@ func Generate(s Spec) (*Record, error) {
 		force = make([]float64, no)
 		fn := sensorNoise(rng, no, fso, s.ForceNoiseDensity, 0)
 		for i := range force {
-			force[i] = s.Hammer.force(float64(i)*h-s.PreTrigger) + fn[i]
+			force[i] = hammer(float64(i)*h-s.PreTrigger) + fn[i]
 		}
 	}
 	// 5. anti-alias filter, decimation, ADC, window
@@ -376,6 +392,8 @@ func (s Spec) validate() error {
 		return fmt.Errorf("field: anti-alias filter of order %d at %g Hz: need order <= 16 and a corner below half the oversampled rate", s.AntiAlias.Order, s.AntiAlias.CornerHz)
 	case s.Sensor.NoiseDensity < 0 || s.Sensor.PinkCornerHz < 0 || s.Sensor.HighpassHz < 0 || s.WindowTauS < 0 || s.ForceNoiseDensity < 0:
 		return errors.New("field: noise densities, corners and the window's tau must not be negative")
+	case s.PreviousHitS < 0 || s.PreviousHitS > 60:
+		return fmt.Errorf("field: previous hit %g s before: use 0 to 60 s", s.PreviousHitS)
 	case s.Drift.TauS <= 0:
 		return fmt.Errorf("field: drift time constant %g s must be positive", s.Drift.TauS)
 	}

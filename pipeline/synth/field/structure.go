@@ -14,13 +14,13 @@ type Mode struct {
 	// the contact lasts a fair part of the period: the pulse's spectrum
 	// falls off). Its sign is the sign of the mode shape product.
 	Amplitude float64
-	// CubicZeta adds cubic damping c3 q'^3. Its equivalent viscous
+	// CubicZeta adds cubic damping c3 v^3. Its equivalent viscous
 	// damping ratio at modal displacement amplitude a is 3 c3 w a^2 / 8
 	// (first-order averaging, e.g. Nayfeh & Mook, Nonlinear Oscillations,
 	// from memory); CubicZeta is that extra ratio at the nominal initial
 	// amplitude, so zeta(A) = DampingRatio + CubicZeta (A/|Amplitude|)^2.
 	CubicZeta float64
-	// FrictionPerCycle adds Coulomb friction mu sgn(q'): the free decay's
+	// FrictionPerCycle adds Coulomb friction mu sgn(v): the free decay's
 	// amplitude falls by 4 mu / w^2 per cycle (Den Hartog, Mechanical
 	// Vibrations, friction damping), here that fall as a fraction of the
 	// nominal initial amplitude. Its equivalent damping ratio at amplitude
@@ -103,7 +103,7 @@ type oscillator struct {
 	recorded bool
 }
 
-// accel returns q” for the state (q, v) at time t.
+// accel returns the acceleration dv/dt for the state (q, v) at time t.
 func (o *oscillator) accel(q, v, t float64) float64 {
 	a := o.g*o.force(t) - o.c*v - o.w*o.w*q
 	if o.c3 != 0 {
@@ -128,7 +128,7 @@ func (o *oscillator) step(t, h float64) {
 }
 
 // newModeOscillator sets a mode up so that an ideal impulse J gives the
-// nominal acceleration amplitude |Amplitude|: q'(0+) = g J, modal
+// nominal acceleration amplitude |Amplitude|: v(0+) = g J, modal
 // displacement amplitude g J / w, acceleration amplitude about g J w.
 func newModeOscillator(m Mode, hammer Hammer) *oscillator {
 	w := 2 * math.Pi * m.FrequencyHz
