@@ -354,7 +354,18 @@ func (a *analysis) amplitudeCurves() {
 		if !ok {
 			continue
 		}
-		e, ok := demodulate(x0, a.fs, fd, pass, tw, a.noise, float64(a.hit.onset)/a.fs, a.tau())
+		noise := a.noiseNear(fd, pass)
+		// only the span where this mode stands above the noise, and the
+		// filter's length
+		xm := x0
+		if sig > 0 && m.Amplitude > 0 && noise > 0 {
+			envNoise := noise * math.Sqrt(2*tw/a.fs)
+			if r := m.Amplitude / (ampStopNoise * envNoise); r > 1 {
+				n := int(1.25*math.Log(r)/sig*a.fs) + int(2*ampFilterSigmas*a.fs/tw) + 64
+				xm = x0[:min(len(x0), n)]
+			}
+		}
+		e, ok := demodulate(xm, a.fs, fd, pass, tw, noise, float64(a.hit.onset)/a.fs, a.tau())
 		if !ok {
 			continue
 		}
@@ -362,6 +373,20 @@ func (a *analysis) amplitudeCurves() {
 			m.AmplitudeDamping = c
 		}
 	}
+}
+
+// noiseNear returns the white-equivalent noise sd over f-pass..f+pass
+// from the noise model (the largest of its ends and centre), the overall
+// level without one.
+func (a *analysis) noiseNear(f, pass float64) float64 {
+	if a.nm == nil {
+		return a.noise
+	}
+	n := math.Max(a.nm.SDAt(f), math.Max(a.nm.SDAt(math.Max(f-pass, 0)), a.nm.SDAt(f+pass)))
+	if !(n > 0) {
+		return a.noise
+	}
+	return n
 }
 
 // recorded returns a mode's damped frequency (Hz) and its decay rate as
@@ -481,7 +506,7 @@ func (a *analysis) mergeGroup(x0 []float64, lo, hi int) bool {
 		return false
 	}
 	t0 := float64(a.hit.onset) / a.fs
-	e, ok := demodulate(x0, a.fs, f0, pass, tw, a.noise, t0, a.tau())
+	e, ok := demodulate(x0, a.fs, f0, pass, tw, a.noiseNear(f0, pass), t0, a.tau())
 	if !ok || e.used < 2*ampBinMinSamples || (e.t[e.used-1]-e.t[0])*f0 < mergeMinCycles {
 		return false
 	}
