@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 
+	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/read"
 )
 
@@ -96,7 +97,7 @@ func Corpus() []Case {
 	s = base(103)
 	s.Sensor = Sensor{NoiseDensity: 3e-3, PinkCornerHz: 300}
 	s.Modes = append(s.Modes, Mode{FrequencyHz: 23, DampingRatio: 0.05, Amplitude: 0.4})
-	add(Case{Name: "pink-noise-spoiled", Strict: true, Effect: "1/f sensor noise", Item: 2, Want: "short_decay", Spec: s,
+	add(Case{Name: "pink-noise-spoiled", Strict: true, Effect: "1/f sensor noise", Item: 2, Want: check.CodeShortDecay, Spec: s,
 		About: "strong 1/f noise and a weak, heavily damped 23 Hz mode that sinks into it within about two cycles: that mode must be dropped as too short; the others stay"})
 
 	s = base(104)
@@ -117,7 +118,7 @@ func Corpus() []Case {
 	s = base(107)
 	s.Drift = Drift{Offset: 5, Total: 40, TauS: 0.5}
 	s.ADC.FullScale = 30
-	add(Case{Name: "drift-spoiled", Effect: "baseline offset and drift", Item: 3, Want: "clipped", Spec: s,
+	add(Case{Name: "drift-spoiled", Effect: "baseline offset and drift", Item: 3, Want: check.CodeClipped, Spec: s,
 		About: "a drifting amplifier runs into the ADC's 30 m/s^2 range during the decay: the hit is clipped"})
 
 	s = base(108)
@@ -143,7 +144,7 @@ func Corpus() []Case {
 		About: "a steel tip (0.1 ms contact, shorter than a sample) through an 8th-order Butterworth at 0.45 fs: the recorded force pulse rings with negative lobes, one strike"})
 	s = base(111)
 	s.Hammer.SecondDelayS, s.Hammer.SecondScale = 0.012, 0.4
-	add(Case{Name: "double-strike-spoiled", Effect: "hammer bounce", Item: 6, Want: "double_strike", Spec: s,
+	add(Case{Name: "double-strike-spoiled", Effect: "hammer bounce", Item: 6, Want: check.CodeDoubleStrike, Spec: s,
 		About: "the hammer bounces and strikes again 12 ms later at 40 % of the first force"})
 
 	s = base(112)
@@ -158,7 +159,7 @@ func Corpus() []Case {
 		About: "0.4 s of pre-trigger record holding sensor noise with 1/f below 50 Hz"})
 	s = base(114)
 	s.PreviousHitS = 0.3
-	add(Case{Name: "pre-trigger-spoiled", Strict: true, Effect: "pre-trigger segment", Item: 1, Want: "pre_ringing", Spec: s,
+	add(Case{Name: "pre-trigger-spoiled", Strict: true, Effect: "pre-trigger segment", Item: 1, Want: check.CodePreRinging, Spec: s,
 		About: "the previous strike came 0.3 s before this one: the structure still rings through the pre-trigger (95 Hz mode at about 2 m/s^2)"})
 
 	s = base(115)
@@ -173,7 +174,7 @@ func Corpus() []Case {
 		s.Modes[i].Amplitude /= 50
 	}
 	s.Hammer.PeakN /= 50
-	add(Case{Name: "quantisation-spoiled", Strict: true, Effect: "16-bit ADC, small signal", Item: 7, Want: "short_decay", Spec: s,
+	add(Case{Name: "quantisation-spoiled", Strict: true, Effect: "16-bit ADC, small signal", Item: 7, Want: check.CodeShortDecay, Spec: s,
 		About: "a tap 50 times lighter on a 5000 m/s^2 range (step 0.153 m/s^2, quantisation noise 0.044 m/s^2 rms): the modes start at about 2 and 0.9 steps; the 410 Hz mode's Cramer-Rao floor 2/sqrt(ENR) is about 12 %, above the 10 % asked for, so it must be dropped as too short"})
 
 	s = base(117)
@@ -187,7 +188,7 @@ func Corpus() []Case {
 	s = base(118)
 	s.Modes = append(s.Modes, Mode{FrequencyHz: 96.5, DampingRatio: 0.012, Amplitude: 10})
 	s.ADC.FullScale = 100
-	add(Case{Name: "close-modes-spoiled", Strict: true, Effect: "two modes 1.5 Hz apart", Item: 8, Want: "beating_modes", Spec: s,
+	add(Case{Name: "close-modes-spoiled", Strict: true, Effect: "two modes 1.5 Hz apart", Item: 8, Want: check.CodeBeatingModes, Spec: s,
 		About: "a second mode 1.5 Hz above the first (a symmetric structure split by a small asymmetry): the two beat"})
 
 	s = base(119)
@@ -196,17 +197,17 @@ func Corpus() []Case {
 		About: "cubic damping at the 95 Hz mode adding 0.06 % to its 1.2 % at the start of the decay: within what a hit resolves"})
 	s = base(120)
 	s.Modes[0].CubicZeta = 0.012
-	add(Case{Name: "cubic-damping-spoiled", Strict: true, NoSplit: true, Effect: "amplitude-dependent (cubic) damping", Item: 10, Want: "damping_drift", Spec: s,
+	add(Case{Name: "cubic-damping-spoiled", Strict: true, NoSplit: true, Effect: "amplitude-dependent (cubic) damping", Item: 10, Want: check.CodeAmplitudeDamping, Spec: s,
 		About: "cubic damping doubling the 95 Hz mode's damping at the start of the decay (2.4 % falling to 1.2 %)"})
 	s = base(121)
 	s.Modes[0].DampingRatio = 0.002
 	s.Modes[0].FrictionPerCycle = 0.025
-	add(Case{Name: "friction-spoiled", Strict: true, NoSplit: true, Effect: "Coulomb friction in a joint", Item: 10, Want: "friction_decay", Spec: s,
+	add(Case{Name: "friction-spoiled", Strict: true, NoSplit: true, Effect: "Coulomb friction in a joint", Item: 10, Want: check.CodeFrictionDecay, Spec: s,
 		About: "dry friction at the 95 Hz mode: its envelope falls by 2.5 % of the start every cycle, a straight line, plus 0.2 % viscous damping"})
 
 	s = base(122)
 	s.Rattle = &Rattle{TimeS: 0.35, Amplitude: 3, FrequencyHz: 760, DampingRatio: 0.03}
-	add(Case{Name: "rattle-spoiled", Strict: true, Effect: "sensor rattle mid-decay", Item: 9, Want: CodeTransientPending, Spec: s,
+	add(Case{Name: "rattle-spoiled", Strict: true, Effect: "sensor rattle mid-decay", Item: 9, Want: check.CodeTransient, Spec: s,
 		About: "a loose sensor knocks 0.35 s into the decay: a 760 Hz, 3 m/s^2 burst dying in about 20 ms"})
 
 	s = base(123)
@@ -215,7 +216,7 @@ func Corpus() []Case {
 		About: "the base hit on a 40 m/s^2 range: its 34.6 m/s^2 peak (the first swing, with the pulse) uses 86 % of it"})
 	s = base(124)
 	s.ADC.FullScale = 20
-	add(Case{Name: "clipping-spoiled", Effect: "ADC range", Want: "clipped", Spec: s,
+	add(Case{Name: "clipping-spoiled", Effect: "ADC range", Want: check.CodeClipped, Spec: s,
 		About: "the base hit on a 20 m/s^2 range: the first swings clip"})
 	for i := range cs {
 		if cs[i].Spec.Meta == nil {
@@ -225,11 +226,6 @@ func Corpus() []Case {
 	}
 	return cs
 }
-
-// CodeTransientPending is the reason code the corpus expects for a burst
-// inside the decay (issue 8 item 9); the rule does not exist yet, and the
-// name is the one the corpus asks for until it does.
-const CodeTransientPending = "transient"
 
 // Lookup returns the corpus case of the given name.
 func Lookup(name string) (Case, error) {
