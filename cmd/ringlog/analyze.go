@@ -168,6 +168,9 @@ func printResult(w io.Writer, r *pipeline.Result) {
 		fmt.Fprintf(w, ", exponential window tau %.4g s corrected", r.WindowTauS)
 	}
 	fmt.Fprintln(w)
+	if note := r.Meta["force_channel_picked"]; note != "" {
+		fmt.Fprintf(w, "  %s; analysed channel %s\n", note, r.Channel)
+	}
 	if len(r.Modes) > 0 {
 		fmt.Fprintf(w, "  %-4s %12s %9s %21s %7s %7s  %s\n", "mode", "f_n [Hz]", "zeta [%]", "95 % interval [%]", "cycles", "spread", "cross-checks zeta [%]")
 		for i, m := range r.Modes {

@@ -392,3 +392,51 @@ func TestConfigControlCharacterInPath(t *testing.T) {
 		t.Errorf("single quotes and forward slashes: %v", err)
 	}
 }
+
+// TestWAVWithoutNamesPicksImpulsiveForce: a two-channel WAV without
+// channel names (hammer first) was analysed on the hammer channel and
+// rejected with a message blaming the accelerometer. The impulsive channel
+// is now the force, and the output says which channel was analysed.
+func TestWAVWithoutNamesPicksImpulsiveForce(t *testing.T) {
+	rec := hitRecording(17, 4096, 0.5) // force first, then the response
+	for i := range rec.Channels { // into the WAV range of +-1, as a recorder scales its inputs
+		c := &rec.Channels[i]
+		peak := 0.0
+		for _, v := range c.Samples {
+			peak = max(peak, math.Abs(v))
+		}
+		for k := range c.Samples {
+			c.Samples[k] *= 0.5 / peak
+		}
+	}
+	var b bytes.Buffer
+	if err := read.WriteWAV(&b, rec, 16, false); err != nil {
+		t.Fatal(err)
+	}
+	f := filepath.Join(t.TempDir(), "hit.wav")
+	writeFile(t, f, b.Bytes())
+	var o, e bytes.Buffer
+	if code := run(context.Background(), &env{stdout: &o, stderr: &e}, []string{"analyze", "--json", f}); code != 0 {
+		t.Fatalf("exit %d: %s%s", code, o.String(), e.String())
+	}
+	var res struct {
+		Channel      string            `json:"channel"`
+		ForceChannel string            `json:"force_channel"`
+		Verdict      string            `json:"verdict"`
+		Meta         map[string]string `json:"meta"`
+	}
+	if err := json.Unmarshal(o.Bytes(), &res); err != nil {
+		t.Fatal(err)
+	}
+	if res.Channel != "ch2" || res.ForceChannel != "ch1" || res.Verdict == "rejected" {
+		t.Errorf("analysed %q with force %q, verdict %s; want ch2 with force ch1, not rejected", res.Channel, res.ForceChannel, res.Verdict)
+	}
+	if !strings.Contains(res.Meta["force_channel_picked"], "ch1") {
+		t.Errorf("meta does not say the force channel was picked: %v", res.Meta)
+	}
+	o.Reset()
+	run(context.Background(), &env{stdout: &o, stderr: &e}, []string{"analyze", f})
+	if !strings.Contains(o.String(), "analysed channel ch2") {
+		t.Errorf("human output does not say which channel was analysed:\n%s", o.String())
+	}
+}

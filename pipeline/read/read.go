@@ -128,6 +128,17 @@ func finish(rec *pipeline.Recording, opt Options, forceHint []bool) error {
 				break
 			}
 		}
+		if force < 0 && rec.Format == FormatWAV && len(opt.Names) == 0 && len(rec.Channels) >= 2 {
+			// A WAV file names no channel: take the impulsive one (the
+			// hammer) as the force, and say so in the metadata.
+			if i, note := impulsiveChannel(rec.Channels); i >= 0 {
+				force = i
+				if rec.Meta == nil {
+					rec.Meta = map[string]string{}
+				}
+				rec.Meta["force_channel_picked"] = note
+			}
+		}
 		if force < 0 {
 		search:
 			for i := range rec.Channels {
@@ -315,4 +326,59 @@ func toUTF8(b []byte) string {
 		r[i] = rune(c)
 	}
 	return string(r)
+}
+
+// impulsiveChannel finds the channel that looks like a hammer's force: at
+// least 80 % of its energy within 5 ms (and 16 samples) either side of its
+// largest magnitude, where every other channel has less than half of its
+// energy there. A response rings down over many periods; a hammer pulse
+// lasts a millisecond or so (common practice: a steel tip gives a pulse of
+// 0.1 to 1 ms, a soft tip a few ms). It returns -1 when no channel, or
+// more than one, is impulsive.
+func impulsiveChannel(chs []pipeline.Channel) (int, string) {
+	const need, others = 0.8, 0.5
+	best, bestFrac := -1, 0.0
+	second := 0.0
+	for i := range chs {
+		c := &chs[i]
+		x := c.Samples
+		if len(x) == 0 {
+			continue
+		}
+		// Remove the mean (a DC offset would spread "energy" everywhere).
+		mean := 0.0
+		for _, v := range x {
+			mean += v
+		}
+		mean /= float64(len(x))
+		peak, at, total := 0.0, 0, 0.0
+		for k, v := range x {
+			d := v - mean
+			total += d * d
+			if a := math.Abs(d); a > peak {
+				peak, at = a, k
+			}
+		}
+		if !(total > 0) || math.IsInf(total, 0) {
+			continue
+		}
+		w := max(16, int(0.005*c.SampleRate))
+		near := 0.0
+		for k := max(0, at-w); k < min(len(x), at+w+1); k++ {
+			d := x[k] - mean
+			near += d * d
+		}
+		frac := near / total
+		switch {
+		case frac > bestFrac:
+			second, best, bestFrac = bestFrac, i, frac
+		case frac > second:
+			second = frac
+		}
+	}
+	if best < 0 || bestFrac < need || second >= others {
+		return -1, ""
+	}
+	return best, fmt.Sprintf("no channel is named; %s is impulsive (%.0f %% of its energy within 5 ms of its peak) and was taken as the force (hammer) channel",
+		chs[best].Name, 100*bestFrac)
 }
