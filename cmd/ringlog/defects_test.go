@@ -399,7 +399,7 @@ func TestConfigControlCharacterInPath(t *testing.T) {
 // is now the force, and the output says which channel was analysed.
 func TestWAVWithoutNamesPicksImpulsiveForce(t *testing.T) {
 	rec := hitRecording(17, 4096, 0.5) // force first, then the response
-	for i := range rec.Channels { // into the WAV range of +-1, as a recorder scales its inputs
+	for i := range rec.Channels {      // into the WAV range of +-1, as a recorder scales its inputs
 		c := &rec.Channels[i]
 		peak := 0.0
 		for _, v := range c.Samples {
