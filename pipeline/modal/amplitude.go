@@ -569,5 +569,18 @@ func (a *analysis) mergeGroup(x0 []float64, lo, hi int) bool {
 	dg.ExpRSS, dg.LinRSS = EnvelopeShape(env, fsx, e.noise[0])
 	a.modes = slices.Replace(a.modes, lo, hi+1, m)
 	a.diags = slices.Replace(a.diags, lo, hi+1, dg)
+	// The least-squares model is a sum of exponentials: it cannot follow a
+	// non-exponential decay (a friction decay stops dead), so its residual
+	// holds the difference over the merged mode's span, and a burst found
+	// there is that difference, not a knock.
+	from := t0
+	to := t0 + 1.1*e.t[n-1] + 2/f0
+	kept := a.transients[:0]
+	for _, tr := range a.transients {
+		if tr.TimeS+tr.DurationS < from || tr.TimeS > to {
+			kept = append(kept, tr)
+		}
+	}
+	a.transients = kept
 	return true
 }

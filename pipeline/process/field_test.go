@@ -28,7 +28,6 @@ var fieldKnownFailures = map[string]string{
 	"quantisation-spoiled": "issue 8 item 7: short_decay is raised, but with a noise estimate of 0 the trigger is put at sample 0 (no_lead_in) and damping_drift and estimates_disagree are raised too",
 	"plate-modes-clean":    "issue 8 item 8: 3 of 12 plate modes (98, 609 and 713 Hz, 32-50 dB above the noise) are not found and no mode_limit says so; the 499 Hz damping and the 648 and 777 Hz frequencies miss their intervals",
 	"cubic-damping-clean":  "issue 8 item 6: the 95 Hz mode with its 5 % amplitude dependence is fine, but the 410 Hz damping reads 0.805 % [0.800, 0.811 at 3.29 sigma] against 0.800 %; without the anti-alias filter the same hit reads 0.800 % (a +0.5 % bias at 0.4 of the filter's corner, see the realistic accuracy rows)",
-	"friction-spoiled":     "issue 8 item 9 (with item 10): friction_decay is raised and the mode is no longer split, but the friction decay's departure from the viscous model is also reported as transient_in_decay",
 }
 
 // fieldZ is how many standard errors from its estimate the truth may lie
