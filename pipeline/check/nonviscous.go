@@ -151,7 +151,30 @@ func groupShape(in Input, i int) (expRSS, linRSS, level float64) {
 	if !(fs > 0) || !(lo > 0) || hi >= fs/2 || onset < 0 || onset >= len(x) {
 		return nan, nan, 1
 	}
-	band, err := modal.BandPass(nil, x, fs, lo, hi, 2)
+	// Only the span where the group stands above the noise matters: twice
+	// the time its slowest mode takes to fall to the band's noise, and a
+	// second more (the filter settles, a friction stop shows) -- not the
+	// whole record (a 30 s record costs 2^20-point transforms otherwise).
+	noise := in.Decay.NoiseRMS * math.Sqrt((hi-lo)/(fs/2))
+	end := len(x)
+	if noise > 0 {
+		tEnd := 0.0
+		for _, m := range ms {
+			if m.FrequencyHz < lo || m.FrequencyHz > hi {
+				continue
+			}
+			sg := m.DampingRatio * 2 * math.Pi * m.FrequencyHz
+			if !(sg > 0) || !(m.Amplitude > 0) {
+				tEnd = math.Inf(1)
+				break
+			}
+			tEnd = math.Max(tEnd, math.Log(math.Max(m.Amplitude/noise, 1))/sg)
+		}
+		if n := 2*tEnd + 1; n*fs < float64(len(x)-onset) {
+			end = onset + int(n*fs)
+		}
+	}
+	band, err := modal.BandPass(nil, x[:end], fs, lo, hi, 2)
 	if err != nil {
 		return nan, nan, 1
 	}
@@ -161,7 +184,6 @@ func groupShape(in Input, i int) (expRSS, linRSS, level float64) {
 		return nan, nan, 1
 	}
 	env = env[start:]
-	noise := in.Decay.NoiseRMS * math.Sqrt((hi-lo)/(fs/2))
 	expRSS, linRSS = modal.EnvelopeShape(env, fs, noise)
 	n := len(env)
 	for k, v := range env {

@@ -400,6 +400,34 @@ func (a *analysis) run() {
 	truncated := a.spanN >= len(a.x0)-len(a.x0)/50 || ns < a.spanN
 	p, binHz := decaySpectrum(a.x0[:ns], a.fs, truncated)
 	peaks := spectralPeaks(p, binHz, a.opt.FMinHz, a.opt.FMaxHz)
+	// A heavily damped mode is over within a few hundred samples: in the
+	// spectrum of a long span its peak sinks into the noise of the whole
+	// span. Shorter spans from the onset (a sixteenth, then a sixteenth of
+	// that, down to 256 samples) find it; their broad peaks are added where
+	// no peak of the longer span lies within two of their resolution cells.
+	for short := ns / 16; short >= 256; short /= 16 {
+		ps, bh := decaySpectrum(a.x0[:short], a.fs, true)
+		for _, pk := range spectralPeaks(ps, bh, a.opt.FMinHz, a.opt.FMaxHz) {
+			// only peaks broader than the short span resolves and than a
+			// lightly damped mode is (over 2 %): the long span finds the rest
+			if pk.hpbw < 2*a.fs/float64(short) || pk.hpbw < 0.04*pk.f {
+				continue
+			}
+			known := false
+			for _, q := range peaks {
+				if math.Abs(q.f-pk.f) < 2*a.fs/float64(short) {
+					known = true
+					break
+				}
+			}
+			if !known {
+				// scaled to the long span's power so that band ranking
+				// compares like with like
+				pk.power *= float64(ns) / float64(short)
+				peaks = append(peaks, pk)
+			}
+		}
+	}
 	bands := planBands(peaks, a.fs/float64(ns), 2*a.opt.MaxModes+4)
 	var cands []candidate
 	for _, b := range bands {
