@@ -121,6 +121,19 @@ type Cluster struct {
 // RINGLOG_TEST_PGBIN is not set.
 func NewCluster(t testing.TB) *Cluster {
 	t.Helper()
+	return newCluster(t, "")
+}
+
+// NewClusterWithPasswords is NewCluster with password authentication
+// (scram-sha-256) on TCP; the superuser ringlog has the password super.
+// Connections through the socket stay trusted.
+func NewClusterWithPasswords(t testing.TB, super string) *Cluster {
+	t.Helper()
+	return newCluster(t, super)
+}
+
+func newCluster(t testing.TB, super string) *Cluster {
+	t.Helper()
 	bin := os.Getenv(EnvBin)
 	if bin == "" {
 		t.Skip(skipMsg)
@@ -144,8 +157,15 @@ func NewCluster(t testing.TB) *Cluster {
 	}
 	c.port = l.Addr().(*net.TCPAddr).Port
 	l.Close()
-	if out, err := c.run(filepath.Join(bin, "initdb"), "-D", c.data(), "-A", "trust", "-U", "ringlog", "-E", "UTF8",
-		"--no-sync", "--no-instructions"); err != nil {
+	args := []string{"-D", c.data(), "-A", "trust", "-U", "ringlog", "-E", "UTF8", "--no-sync", "--no-instructions"}
+	if super != "" {
+		pw := filepath.Join(dir, "superpw")
+		if err := os.WriteFile(pw, []byte(super+"\n"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		args = append(args, "--auth-host=scram-sha-256", "--pwfile="+pw)
+	}
+	if out, err := c.run(filepath.Join(bin, "initdb"), args...); err != nil {
 		t.Fatalf("pgtest: initdb: %v\n%s", err, out)
 	}
 	c.Start()
@@ -166,8 +186,11 @@ func (c *Cluster) pgctl(args ...string) ([]byte, error) {
 }
 
 // URL is the URL of the cluster's postgres database.
-func (c *Cluster) URL() string {
-	return fmt.Sprintf("postgres://ringlog@127.0.0.1:%d/postgres?sslmode=disable&connect_timeout=5", c.port)
+func (c *Cluster) URL() string { return c.DBURL("ringlog", "postgres") }
+
+// DBURL is the URL of database as user, without a password.
+func (c *Cluster) DBURL(user, database string) string {
+	return fmt.Sprintf("postgres://%s@127.0.0.1:%d/%s?sslmode=disable&connect_timeout=5", user, c.port, database)
 }
 
 // Start starts the server and waits until it accepts connections.
