@@ -64,7 +64,7 @@ const header = `# Realistic test corpus
 
 Hit recordings made the way a test bay records them, by package
 ` + "`pipeline/synth/field`" + ` (see its doc.go): each mode of the structure is a modal
-oscillator integrated in time with the fourth-order Runge-Kutta method at 8
+oscillator integrated in time with the fourth-order Runge-Kutta method at 16
 times the record's rate (with cubic damping or Coulomb friction where a case
 says so), struck by a half-sine hammer pulse; the accelerometer adds Gaussian
 noise with a white floor and 1/f below a corner; the amplifier adds AC

@@ -5,7 +5,7 @@
 //
 // Nothing here uses the closed-form damped sinusoids the estimators
 // assume. The chain, at an oversampled rate (Spec.Oversample times the
-// record's rate, default 8):
+// record's rate, default 16):
 //
 //  1. structure: each mode is a unit-mass modal oscillator
 //     a + 2 zeta w v + w^2 q + c3 v^3 + mu sgn(v) = g F(t), v = dq/dt, a = dv/dt,

@@ -55,7 +55,7 @@ type Spec struct {
 	SampleRate float64 // record rate, Hz
 	Duration   float64 // s
 	PreTrigger float64 // s of record before the first contact
-	Oversample int     // integration and analog-filter rate over the record's; default 8
+	Oversample int     // integration and analog-filter rate over the record's; default 16 (RK4 errors at a mode of 0.3 times the record's rate: damping 0.004 %, frequency 2e-6, relative)
 	Seed       uint64
 
 	Modes  []Mode
@@ -356,7 +356,7 @@ func adc(x []float64, bits int, full float64) float64 {
 
 func (s Spec) withDefaults() Spec {
 	if s.Oversample == 0 {
-		s.Oversample = 8
+		s.Oversample = 16
 	}
 	if s.AntiAlias.Order == 0 {
 		s.AntiAlias.Order = 6
@@ -383,7 +383,7 @@ func (s Spec) validate() error {
 	case s.PreTrigger < 0 || s.PreTrigger >= s.Duration:
 		return fmt.Errorf("field: pre-trigger %g s must lie inside the %g s record", s.PreTrigger, s.Duration)
 	case s.Oversample < 1 || s.Oversample > 64:
-		return fmt.Errorf("field: oversampling %d: use 1 to 64 (0 = 8)", s.Oversample)
+		return fmt.Errorf("field: oversampling %d: use 1 to 64 (0 = 16)", s.Oversample)
 	case !(s.Hammer.ContactS > 0) || !(s.Hammer.PeakN > 0):
 		return errors.New("field: the hammer needs a positive peak force and contact time")
 	case s.ADC.Bits < 0 || s.ADC.Bits > 32 || (s.ADC.Bits > 0 && s.ADC.FullScale <= 0):
