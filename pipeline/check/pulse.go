@@ -86,6 +86,24 @@ func strided(x []float64, n int) []float64 {
 	return out
 }
 
+// quiet0 reports whether the rest samples before the rising edge that
+// reaches i (the samples above ret leading to it) all lie within the
+// return level ret on both sides.
+func quiet0(g []float64, i, rest int, ret float64) bool {
+	for i > 0 && g[i-1] >= ret {
+		i--
+	}
+	if i < rest {
+		return false
+	}
+	for _, v := range g[i-rest : i] {
+		if math.Abs(v) >= ret {
+			return false
+		}
+	}
+	return true
+}
+
 // pulseCache holds the force pulse of one hit, found once by whichever
 // rule asks first.
 type pulseCache struct {
@@ -115,17 +133,31 @@ type pulse struct {
 // pulses splits the force into pulses: a pulse starts when the force
 // rises above the rise level and ends when it falls below the return
 // level.
+//
+// A hammer only pushes: a pulse is positive. And a pulse rings: the
+// recorder's anti-alias filter answers a short pulse with alternating
+// lobes, the negative one first. So the force is back at rest only when it
+// has stayed within the return level on both sides for as long as the main
+// pulse lasted (at least half a millisecond); a rise before that is the
+// pulse's own ringing, not a second strike.
 func (fp forcePulse) pulses(th Thresholds) []pulse {
 	rise := math.Max(th.StrikeRiseFraction*fp.height, riseNoiseSD*fp.sd)
 	ret := th.StrikeReturnFraction * fp.height
+	rest := max(fp.end-fp.start+1, int(math.Ceil(0.0005*fp.fs)), 2)
 	var out []pulse
 	in := false
+	quiet := rest // samples in a row within the return level
 	for i, v := range fp.g {
+		if math.Abs(v) < ret {
+			quiet++
+		} else {
+			quiet = 0
+		}
 		switch {
-		case !in && v > rise:
+		case !in && v > rise && (len(out) == 0 || quiet0(fp.g, i, rest, ret)):
 			in = true
 			out = append(out, pulse{peak: i, height: v})
-		case in && v < ret:
+		case in && quiet >= rest:
 			in = false
 		}
 		if in && v > out[len(out)-1].height {

@@ -237,10 +237,13 @@ func locateHit(x []float64, fs float64, force []float64) hit {
 			forceEnd = j
 			h.forceBase = fb
 			h.hasForce = true
-			// a second pulse ends the free decay
+			// a second pulse ends the free decay; a hammer only pushes, so
+			// it has the main pulse's sign (the anti-alias filter's
+			// negative lobes are ringing, not a strike)
 			width := max(forceEnd-forceTrig, 1)
+			sgn := math.Copysign(1, force[ifp]-fb)
 			for k := forceEnd + width; k < n; k++ {
-				if math.Abs(force[k]-fb) > 0.1*fp {
+				if sgn*(force[k]-fb) > 0.1*fp {
 					for k > forceEnd && math.Abs(force[k-1]-fb) > endThr {
 						k--
 					}

@@ -361,3 +361,18 @@ func TestRealisticManyModes(t *testing.T) {
 		t.Errorf("12 modes with max_modes 8 and no mode_limit reason: %+v", res.Reasons)
 	}
 }
+
+// Anti-alias filter ringing after a short force pulse (alternating lobes
+// up to 30 % of the pulse, the negative one first) is not a second strike;
+// a second positive pulse 30 ms later, after the force was back at rest,
+// is.
+func TestRealisticForceRinging(t *testing.T) {
+	h := rhit{fs: 25600, dur: 1.5, pre: 0.05, modes: []rmode{{210, 0.01, 2, 0.3}, {640, 0.012, 1, 1.1}},
+		white: 1e-3, forceRing: 0.3, seed: 12}
+	wantClean(t, analyse(t, h, process.Defaults()), h, 0)
+	h.secondStrike = 0.03
+	res := analyse(t, h, process.Defaults())
+	if !hasCode(res, check.CodeDoubleStrike) {
+		t.Errorf("second strike not found: %+v", res.Reasons)
+	}
+}
