@@ -12,8 +12,10 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/check"
@@ -438,5 +440,80 @@ func TestWAVWithoutNamesPicksImpulsiveForce(t *testing.T) {
 	run(context.Background(), &env{stdout: &o, stderr: &e}, []string{"analyze", f})
 	if !strings.Contains(o.String(), "analysed channel ch2") {
 		t.Errorf("human output does not say which channel was analysed:\n%s", o.String())
+	}
+}
+
+// TestDemoFollowUpCommand: after 'go run ./cmd/ringlog demo' the printed
+// follow-up commands named 'ringlog', which is not on the PATH. The
+// command printed is now one that runs this program.
+func TestDemoFollowUpCommand(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Fatal(err)
+	}
+	empty := t.TempDir()
+	t.Setenv("PATH", empty)
+	got := selfCommand()
+	if got == "ringlog" {
+		t.Fatalf("selfCommand = %q with no ringlog on the PATH", got)
+	}
+	if got != shellQuote(exe) && !strings.HasPrefix(got, "go run ") {
+		t.Errorf("selfCommand = %q, want the program's path %s", got, exe)
+	}
+	if runtime.GOOS == "windows" {
+		return
+	}
+	if err := os.Symlink(exe, filepath.Join(empty, "ringlog")); err != nil {
+		t.Fatal(err)
+	}
+	if got := selfCommand(); got != "ringlog" {
+		t.Errorf("selfCommand = %q with this program on the PATH as ringlog, want ringlog", got)
+	}
+	if q := shellQuote("/tmp/my demo/h.db"); q != "'/tmp/my demo/h.db'" {
+		t.Errorf("shellQuote = %s", q)
+	}
+}
+
+// TestFutureHitTimeFlagged: a hit time in the future passed without
+// comment. Ingest a file whose hit_time is a year ahead: it is flagged
+// with the reason, a file of today is not.
+func TestFutureHitTimeFlagged(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	dbPath := filepath.Join(dir, "h.db")
+	future := time.Now().AddDate(1, 0, 0).Format("2006-01-02 15:04:05")
+	fut, now := filepath.Join(dir, "future.csv"), filepath.Join(dir, "now.csv")
+	writeFile(t, fut, append([]byte("# hit_time: "+future+"\n"), smallHitCSV(t, 31)...))
+	writeFile(t, now, smallHitCSV(t, 32))
+	if _, stderr, code := ringlog(t, "ingest", "--db", dbPath, "--prototype", "P", fut, now); code != 0 {
+		t.Fatalf("ingest: exit %d\n%s", code, stderr)
+	}
+	stdout, _, _ := ringlog(t, "history", "--db", dbPath, "--json")
+	n := 0
+	for _, line := range strings.Split(strings.TrimSpace(stdout), "\n") {
+		var h struct {
+			File    string `json:"file"`
+			Verdict string `json:"verdict"`
+			Reasons []struct {
+				Code string `json:"code"`
+			} `json:"reasons"`
+		}
+		if err := json.Unmarshal([]byte(line), &h); err != nil {
+			t.Fatalf("%v: %s", err, line)
+		}
+		flagged := false
+		for _, r := range h.Reasons {
+			flagged = flagged || r.Code == reasonFutureHitTime
+		}
+		if want := h.File == fut; flagged != want {
+			t.Errorf("%s: future-time flag %v, want %v (verdict %s)", h.File, flagged, want, h.Verdict)
+		}
+		if h.File == fut && h.Verdict == "accepted" {
+			t.Errorf("%s: verdict accepted with a hit time a year ahead", h.File)
+		}
+		n++
+	}
+	if n != 2 {
+		t.Errorf("history has %d hits, want 2:\n%s", n, stdout)
 	}
 }

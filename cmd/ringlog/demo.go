@@ -7,7 +7,9 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"os/exec"
 	"path/filepath"
+	"runtime"
 	"sort"
 	"strings"
 	"sync"
@@ -386,7 +388,48 @@ func demoSummary(ctx context.Context, e *env, store *db.DB, root, dbPath, cfgPat
 		fmt.Fprintf(e.stdout, "  %-10s %-8s %4d %10.3f %10.3f\n", k.mode, k.rev, len(v), 100*mean, 100*sd)
 	}
 	fmt.Fprintf(e.stdout, "\ndatabase: %s\nconfig:   %s\n", dbPath, cfgPath)
-	fmt.Fprintf(e.stdout, "next:     ringlog history --db %s\n          ringlog watch --config %s   (drop your own files into the export folder)\n", dbPath, cfgPath)
+	self := selfCommand()
+	fmt.Fprintf(e.stdout, "next:     %s history --db %s\n          %s watch --config %s   (drop your own files into the export folder)\n",
+		self, shellQuote(dbPath), self, shellQuote(cfgPath))
 	fmt.Fprintln(e.stdout, "\nCaution: measured damping depends on amplitude, boundary conditions and temperature; over-estimating it makes a model unconservative. See README, 'Cautions'.")
 	return writeDemoReport(ctx, e, store, root, dbPath, cfgPath)
+}
+
+// selfCommand is how the user runs this ringlog again, as printed in
+// follow-up commands: "ringlog" when that name on the PATH is this
+// program, "go run github.com/ringlog/ringlog/cmd/ringlog" under 'go run'
+// (the binary is in a temporary build folder), else the program's path.
+func selfCommand() string {
+	exe, err := os.Executable()
+	if err != nil {
+		return "ringlog"
+	}
+	if r, err := filepath.EvalSymlinks(exe); err == nil {
+		exe = r
+	}
+	if onPath, err := exec.LookPath("ringlog"); err == nil {
+		if r, err := filepath.EvalSymlinks(onPath); err == nil {
+			if a, err1 := os.Stat(r); err1 == nil {
+				if b, err2 := os.Stat(exe); err2 == nil && os.SameFile(a, b) {
+					return "ringlog"
+				}
+			}
+		}
+	}
+	slash := filepath.ToSlash(exe)
+	if strings.Contains(slash, "/go-build") && strings.Contains(slash, "/exe/") {
+		return "go run github.com/ringlog/ringlog/cmd/ringlog"
+	}
+	return shellQuote(exe)
+}
+
+// shellQuote quotes p for a shell when it holds a blank or a quote.
+func shellQuote(p string) string {
+	if !strings.ContainsAny(p, " \t'\"$&;|<>()*?`") {
+		return p
+	}
+	if runtime.GOOS == "windows" {
+		return `"` + p + `"`
+	}
+	return "'" + strings.ReplaceAll(p, "'", `'\''`) + "'"
 }

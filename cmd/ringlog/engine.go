@@ -193,6 +193,7 @@ func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 		return db.Outcome{}, e.store.RecordFailure(ctx, o.fi, o.err, true)
 	}
 	meta := hitMeta(o)
+	flagFutureHitTime(o.res, meta.HitTime, time.Now())
 	e.cfg.labelModes(meta.Prototype, o.res)
 	out, err := e.store.RecordResult(ctx, o.fi, meta, o.res, settingsOf(e.cfg, o.folder))
 	if err != nil {
@@ -288,4 +289,33 @@ func settingsOf(cfg *Config, f *FolderConfig) any {
 func sha256Hex(b []byte) string {
 	sum := sha256.Sum256(b)
 	return hex.EncodeToString(sum[:])
+}
+
+// futureSlack is how far ahead of this computer's clock a hit time may be
+// before it is flagged: recorder and server clocks differ by a few minutes.
+const futureSlack = 10 * time.Minute
+
+// reasonFutureHitTime is the code of the flag on a hit whose time lies in
+// the future (a recorder clock set wrong, or a mistyped hit_time). It only
+// informs: the numbers are not in doubt, the hit's place in a trend is.
+const reasonFutureHitTime = "hit_time_in_future"
+
+// flagFutureHitTime adds the future-time flag to res when hitTime is more
+// than futureSlack after now.
+func flagFutureHitTime(res *pipeline.Result, hitTime, now time.Time) {
+	if res == nil || !hitTime.After(now.Add(futureSlack)) {
+		return
+	}
+	for _, r := range res.Reasons {
+		if r.Code == reasonFutureHitTime {
+			return
+		}
+	}
+	res.Reasons = append(res.Reasons, pipeline.Reason{
+		Code:     reasonFutureHitTime,
+		Severity: pipeline.SeverityFlag,
+		Message: fmt.Sprintf("the hit time %s is %s ahead of this computer's clock: check the recorder's clock or the hit_time metadata",
+			hitTime.Format(time.RFC3339), hitTime.Sub(now).Round(time.Minute)),
+	})
+	res.Decide()
 }
