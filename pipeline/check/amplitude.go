@@ -53,7 +53,18 @@ func (AmplitudeDependence) Check(in Input, th Thresholds) []pipeline.Reason {
 		if d, ok := diag(in, i); ok && frictionLike(m, d, th) {
 			continue
 		}
+		// quote the measured bins at the two ends whose intervals are
+		// narrower than half their value (+/- 25 %)
 		hi, lo := bins[0], bins[len(bins)-1]
+		var good []pipeline.AmplitudeBin
+		for _, b := range bins {
+			if b.DampingRatio > 0 && b.DampingRatioCI[1]-b.DampingRatioCI[0] < 0.5*b.DampingRatio {
+				good = append(good, b)
+			}
+		}
+		if len(good) >= 2 {
+			hi, lo = good[0], good[len(good)-1]
+		}
 		trend := "grows"
 		if change < 0 {
 			trend = "falls"
@@ -62,8 +73,8 @@ func (AmplitudeDependence) Check(in Input, th Thresholds) []pipeline.Reason {
 			Code:     CodeAmplitudeDamping,
 			Severity: pipeline.SeverityFlag,
 			Mode:     pipeline.ModeRef(i),
-			Message: fmt.Sprintf("%s: the damping ratio %s with the amplitude, %s at %s and %s at %s "+
-				"(a change of %s over the decay, limit %s): the damping depends on how hard the structure was struck",
+			Message: fmt.Sprintf("%s: the damping ratio %s with the amplitude, %s at %s and %s at %s along the decay "+
+				"(a change of %s of its mean, limit %s): the damping depends on how hard the structure was struck",
 				modeName(m), trend, pct(hi.DampingRatio), qty(hi.Amplitude, unit(in)), pct(lo.DampingRatio),
 				qty(lo.Amplitude, unit(in)), pct(math.Abs(change)), pct(th.MaxAmplitudeDampingChange)),
 		})

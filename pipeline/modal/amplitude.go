@@ -280,7 +280,24 @@ func (e *modeEnvelope) curve(fd float64) []pipeline.AmplitudeBin {
 // grows with the amplitude), and that change over its standard error. Both
 // are NaN with fewer than three usable bins.
 func AmplitudeTrend(bins []pipeline.AmplitudeBin) (change, z float64) {
+	t := AmplitudeTrendFit(bins)
+	return t.Change, t.Z
+}
+
+// TrendFit is the weighted line of AmplitudeTrend with its ends.
+type TrendFit struct {
+	Change, Z  float64 // as AmplitudeTrend
+	AMax, AMin float64 // largest and smallest bin amplitude
+	// ZetaAtMax and ZetaAtMin are the line's damping ratios there.
+	ZetaAtMax, ZetaAtMin float64
+}
+
+// AmplitudeTrendFit is AmplitudeTrend with the fitted line's damping
+// ratios at the largest and smallest amplitude (NaN fields when it cannot
+// be fitted).
+func AmplitudeTrendFit(bins []pipeline.AmplitudeBin) TrendFit {
 	nan := math.NaN()
+	out := TrendFit{nan, nan, nan, nan, nan, nan}
 	var x, y, w []float64
 	amin, amax := math.Inf(1), math.Inf(-1)
 	for _, b := range bins {
@@ -294,11 +311,11 @@ func AmplitudeTrend(bins []pipeline.AmplitudeBin) (change, z float64) {
 		amin, amax = math.Min(amin, b.Amplitude), math.Max(amax, b.Amplitude)
 	}
 	if len(x) < 3 {
-		return nan, nan
+		return out
 	}
 	f, ok := fitLine(x, y, w, 0, len(x), 1)
 	if !ok {
-		return nan, nan
+		return out
 	}
 	var sw, sy float64
 	for i := range y {
@@ -307,10 +324,14 @@ func AmplitudeTrend(bins []pipeline.AmplitudeBin) (change, z float64) {
 	}
 	mean := sy / sw
 	if !(mean > 0) {
-		return nan, nan
+		return out
 	}
 	span := math.Log(amax / amin)
-	return f.b * span / mean, f.b / f.seB
+	out.Change, out.Z = f.b*span/mean, f.b/f.seB
+	out.AMax, out.AMin = amax, amin
+	out.ZetaAtMax = f.a + f.b*(math.Log(amax)-f.tm)
+	out.ZetaAtMin = f.a + f.b*(math.Log(amin)-f.tm)
+	return out
 }
 
 // PeakForce returns the peak of the force pulse above the channel's
@@ -556,10 +577,13 @@ func (a *analysis) mergeGroup(x0 []float64, lo, hi int) bool {
 		m.AmplitudeDamping = []pipeline.AmplitudeBin{}
 	} else {
 		// the interval of a non-exponential decay's single damping ratio
-		// covers the damping the mode showed over its amplitudes
+		// covers the damping ratios the mode showed over its amplitudes,
+		// in the bins that determine theirs to within +/- 25 %
 		for _, b := range m.AmplitudeDamping {
-			m.DampingRatioCI[0] = math.Min(m.DampingRatioCI[0], b.DampingRatioCI[0])
-			m.DampingRatioCI[1] = math.Max(m.DampingRatioCI[1], b.DampingRatioCI[1])
+			if b.DampingRatio > 0 && b.DampingRatioCI[1]-b.DampingRatioCI[0] < 0.5*b.DampingRatio {
+				m.DampingRatioCI[0] = math.Min(m.DampingRatioCI[0], b.DampingRatio)
+				m.DampingRatioCI[1] = math.Max(m.DampingRatioCI[1], b.DampingRatio)
+			}
 		}
 	}
 	dg := ModeDiag{BandLowHz: f0 - pass - tw/2, BandHighHz: f0 + pass + tw/2, UsableS: e.t[n-1], ENR: enr,
