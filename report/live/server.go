@@ -61,10 +61,10 @@ type Options struct {
 
 // Limits bound what clients can take of the daemon.
 type Limits struct {
-	MaxConns       int           // open connections (default 64); more are closed at once
-	MaxStreams     int           // open event streams (default 32); more get 503
-	Rate           float64       // requests per second per client address (default 10)
-	Burst          int           // requests a client may make at once (default 40)
+	MaxConns       int           // open connections (default 128); more are closed at once
+	MaxStreams     int           // open event streams (default 64); more get 503
+	Rate           float64       // requests per second per client address (default 20)
+	Burst          int           // requests a client may make at once (default 120)
 	StreamLifetime time.Duration // an event stream is closed after this (default 30 min); the browser reconnects
 	Heartbeat      time.Duration // a comment line keeps idle streams alive (default 15 s)
 	RequestTimeout time.Duration // reading a request and writing a reply (default 30 s; reports 60 s)
@@ -77,12 +77,12 @@ func (l *Limits) defaults() {
 			*v = d
 		}
 	}
-	def(&l.MaxConns, 64)
-	def(&l.MaxStreams, 32)
-	def(&l.Burst, 40)
+	def(&l.MaxConns, 128)
+	def(&l.MaxStreams, 64)
+	def(&l.Burst, 120)
 	def(&l.MaxReports, 1)
 	if l.Rate <= 0 {
-		l.Rate = 10
+		l.Rate = 20
 	}
 	if l.StreamLifetime <= 0 {
 		l.StreamLifetime = 30 * time.Minute
@@ -119,6 +119,9 @@ type Server struct {
 	mu       sync.Mutex
 	oneTime  string // the one-time login key; "" once used
 	rendered bool
+
+	campMu sync.Mutex
+	camp   *campaignCache
 }
 
 // New returns a server over store.
@@ -204,10 +207,16 @@ func (s *Server) Serve(ctx context.Context, ln net.Listener) error {
 	return err
 }
 
-// renderLoop draws the main part of the page after each notification, and
-// once a minute when the day changed.
+// minRenderGap is the least time between two drawings of the page: hits
+// that arrive closer together (a burst) are drawn together, so that the
+// page takes little from the recording.
+const minRenderGap = 200 * time.Millisecond
+
+// renderLoop draws the main part of the page after each notification (at
+// most once per minRenderGap), and once a minute when the day changed.
 func (s *Server) renderLoop(ctx context.Context) {
 	s.render(ctx)
+	last := time.Now()
 	day := s.opt.Now().YearDay()
 	tick := time.NewTicker(time.Minute)
 	defer tick.Stop()
@@ -216,7 +225,15 @@ func (s *Server) renderLoop(ctx context.Context) {
 		case <-ctx.Done():
 			return
 		case <-s.notify:
+			if wait := minRenderGap - time.Since(last); wait > 0 {
+				select {
+				case <-ctx.Done():
+					return
+				case <-time.After(wait):
+				}
+			}
 			s.render(ctx)
+			last = time.Now()
 		case <-tick.C:
 			if d := s.opt.Now().YearDay(); d != day {
 				day = d

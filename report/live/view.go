@@ -197,18 +197,10 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 
 	// The campaign: every hit of the prototype, so that labels are those
 	// of the daily report.
-	var expected []report.Expected
-	if s.opt.Expected != nil {
-		expected = s.opt.Expected(h.Meta.Prototype)
-	}
-	hits, err := s.store.Hits(ctx, db.Filter{Prototype: h.Meta.Prototype})
+	id, err := s.campaign(ctx, h)
 	if err != nil {
 		return nil, nil, err
 	}
-	if !slices.ContainsFunc(hits, func(x db.Hit) bool { return x.ID == h.ID }) {
-		hits = append(hits, h)
-	}
-	id := report.Identify(hits, report.IdentifyOptions{Expected: expected})
 	labels := map[int]string{}
 	for _, o := range id.Obs {
 		if o.HitID == h.ID {
@@ -217,8 +209,8 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 	}
 	hv.BandRevision = orNone(h.Meta.Revision)
 	earlier := map[int64]bool{}
-	for _, x := range hits {
-		if x.ID < h.ID && x.Meta.Revision == h.Meta.Revision {
+	for _, x := range id.Hits {
+		if x.ID < h.ID && x.Revision == h.Meta.Revision {
 			earlier[x.ID] = true
 		}
 	}
@@ -254,7 +246,50 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 		hv.BandInsufficientMsg = fmt.Sprintf("The campaign bands appear once revision %s has %d earlier usable hits of a mode (%d so far).",
 			hv.BandRevision, minBandHits, hv.BandHits)
 	}
-	return hv, id.Revisions(), nil
+	revs := id.Revisions()
+	if !slices.Contains(revs, h.Meta.Revision) {
+		revs = append(revs, h.Meta.Revision)
+	}
+	return hv, revs, nil
+}
+
+// campaignMaxAge is how long the identified campaign of a prototype is
+// kept before it is computed again: loading and identifying a long
+// history on every hit of a burst would take the daemon's processors
+// from the recording. The hits of the last seconds then join the bands
+// late; the last hit is always named, by the nearest identified mode.
+const campaignMaxAge = 10 * time.Second
+
+// campaignCache keeps the identified campaign of one prototype.
+type campaignCache struct {
+	prototype string
+	at        time.Time
+	id        *report.Identified
+}
+
+// campaign returns the identified hits of h's prototype, from the cache
+// when it is young enough.
+func (s *Server) campaign(ctx context.Context, h db.Hit) (*report.Identified, error) {
+	s.campMu.Lock()
+	defer s.campMu.Unlock()
+	now := time.Now()
+	if c := s.camp; c != nil && c.prototype == h.Meta.Prototype && now.Sub(c.at) < campaignMaxAge {
+		return c.id, nil
+	}
+	var expected []report.Expected
+	if s.opt.Expected != nil {
+		expected = s.opt.Expected(h.Meta.Prototype)
+	}
+	hits, err := s.store.Hits(ctx, db.Filter{Prototype: h.Meta.Prototype})
+	if err != nil {
+		return nil, err
+	}
+	if !slices.ContainsFunc(hits, func(x db.Hit) bool { return x.ID == h.ID }) {
+		hits = append(hits, h)
+	}
+	id := report.Identify(hits, report.IdentifyOptions{Expected: expected})
+	s.camp = &campaignCache{prototype: h.Meta.Prototype, at: now, id: id}
+	return id, nil
 }
 
 // nearestLabel names a mode the statistics left out (of a rejected hit,
