@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"os"
@@ -13,6 +14,9 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/read"
+	"github.com/ringlog/ringlog/pipeline/synth"
 )
 
 // benchDaemon starts the daemon in-process on a fresh folder and database
@@ -62,11 +66,41 @@ func benchDaemon(b *testing.B, settle time.Duration) (export string, n *atomic.I
 // and reports the files per second from the end of the settle period to
 // the last row in the database.
 func BenchmarkDaemonThroughput(b *testing.B) {
-	const burst = 200
-	files := make([][]byte, burst)
+	files := make([][]byte, 200)
 	for i := range files {
 		files[i] = hitCSV(b, uint64(i+1), 4096, 1)
 	}
+	daemonThroughput(b, files)
+}
+
+// BenchmarkDaemonThroughputTwoModes is the same burst of realistic short
+// hits: 1.5 s at 5 kHz, a force channel, two modes (a light one and a
+// heavier one), 0.1 s pre-trigger, 40 dB (closed-form generator
+// pipeline/synth).
+func BenchmarkDaemonThroughputTwoModes(b *testing.B) {
+	files := make([][]byte, 200)
+	for i := range files {
+		modes := []synth.Mode{
+			{FrequencyHz: 60 + float64(i%7), DampingRatio: 0.012, Amplitude: 20},
+			{FrequencyHz: 410 + float64(i%5), DampingRatio: 0.03, Amplitude: 12, Phase: 0.8},
+		}
+		h := synth.Hit{SampleRate: 5000, Duration: 1.5, PreTrigger: 0.1, Modes: modes,
+			NoiseSD: synth.NoiseForSNR(modes, 40), Seed: uint64(i + 1), PulseWidth: 0.001, PulsePeak: 200}
+		rec := &pipeline.Recording{Channels: []pipeline.Channel{
+			{Name: "force", Unit: "N", Role: pipeline.RoleForce, SampleRate: 5000, Samples: h.Force()},
+			{Name: "accel", Unit: "m/s^2", Role: pipeline.RoleResponse, SampleRate: 5000, Samples: h.Response()},
+		}}
+		var buf bytes.Buffer
+		if err := read.WriteCSV(&buf, rec, read.WriteOptions{Digits: 6}); err != nil {
+			b.Fatal(err)
+		}
+		files[i] = buf.Bytes()
+	}
+	daemonThroughput(b, files)
+}
+
+func daemonThroughput(b *testing.B, files [][]byte) {
+	burst := int64(len(files))
 	settle := 300 * time.Millisecond
 	var perSec []float64
 	for b.Loop() {
@@ -87,7 +121,7 @@ func BenchmarkDaemonThroughput(b *testing.B) {
 			time.Sleep(5 * time.Millisecond)
 		}
 		el := time.Since(start) - settle
-		perSec = append(perSec, burst/el.Seconds())
+		perSec = append(perSec, float64(burst)/el.Seconds())
 		b.StopTimer()
 		stop()
 		b.StartTimer()

@@ -84,8 +84,7 @@ func spectralPeaks(p []float64, binHz, fmin, fmax float64) []specPeak {
 		return nil
 	}
 	band := slices.Clone(p[kmin : kmax+1])
-	slices.Sort(band)
-	floor := band[len(band)/2] / math.Ln2
+	floor := selectK(band, len(band)/2) / math.Ln2
 	thr := floor * (math.Log(float64(len(band))) + 7)
 	var peaks []specPeak
 	for k := kmin; k <= kmax; k++ {

@@ -175,9 +175,9 @@ func (nm *NoiseModel) Coloured() bool {
 // adcStep returns the quantisation step of x: the smallest spacing between
 // distinct values when (nearly) every sample lies on the grid of that
 // spacing, 0 when the samples are not on a grid (float data, or a step too
-// fine to matter). At most 8192 samples are examined.
+// fine to matter). About 4096 evenly spaced samples are examined.
 func adcStep(x []float64) float64 {
-	step := max(1, len(x)/8192)
+	step := max(1, len(x)/4096)
 	s := make([]float64, 0, len(x)/step+1)
 	for i := 0; i < len(x); i += step {
 		s = append(s, x[i])

@@ -65,15 +65,15 @@ func BenchmarkParse23MB(b *testing.B) {
 	}
 }
 
-// BenchmarkShortHit is one typical short hit file (1 s at 4 kHz), the unit
-// of the daemon's throughput.
+// BenchmarkShortHit is one typical short hit file (1.5 s at 5 kHz, force
+// channel, two modes), the unit of the daemon's throughput.
 func BenchmarkShortHit(b *testing.B) {
-	modes := []synth.Mode{{FrequencyHz: 60, DampingRatio: 0.01, Amplitude: 20}, {FrequencyHz: 230, DampingRatio: 0.008, Amplitude: 8}}
-	h := synth.Hit{SampleRate: 4000, Duration: 1, PreTrigger: 0.05, Modes: modes,
+	modes := []synth.Mode{{FrequencyHz: 60, DampingRatio: 0.012, Amplitude: 20}, {FrequencyHz: 410, DampingRatio: 0.03, Amplitude: 12, Phase: 0.8}}
+	h := synth.Hit{SampleRate: 5000, Duration: 1.5, PreTrigger: 0.1, Modes: modes,
 		NoiseSD: synth.NoiseForSNR(modes, 40), Seed: 5, PulseWidth: 0.001, PulsePeak: 200}
 	rec := &pipeline.Recording{Path: "short.csv", Channels: []pipeline.Channel{
-		{Name: "force", Unit: "N", Role: pipeline.RoleForce, SampleRate: 4000, Samples: h.Force()},
-		{Name: "accel", Unit: "m/s^2", Role: pipeline.RoleResponse, SampleRate: 4000, Samples: h.Response()},
+		{Name: "force", Unit: "N", Role: pipeline.RoleForce, SampleRate: 5000, Samples: h.Force()},
+		{Name: "accel", Unit: "m/s^2", Role: pipeline.RoleResponse, SampleRate: 5000, Samples: h.Response()},
 	}}
 	var buf bytes.Buffer
 	if err := read.WriteCSV(&buf, rec, read.WriteOptions{TimeColumn: true, Digits: 6}); err != nil {
