@@ -15,7 +15,9 @@ var ErrFewCycles = errors.New("too few cycles above the noise")
 
 // spectrumWork is reusable FFT state for one power-of-two length. The
 // gonum transforms keep scratch inside, so a workspace serves one goroutine
-// at a time; workspaces are pooled per length.
+// at a time. Workspaces are kept per length in a small free list (not a
+// sync.Pool, which every garbage collection empties: the daemon would
+// rebuild its FFT plans and buffers after each one).
 type spectrumWork struct {
 	n    int
 	rfft *fourier.FFT
@@ -23,22 +25,43 @@ type spectrumWork struct {
 	half []complex128 // n/2+1
 }
 
-var spectrumPools sync.Map // int -> *sync.Pool
+// spectrumKeep is how many idle workspaces are kept per length (one per
+// worker of a 2-4 core machine, and the Hilbert and FRF of one hit).
+const spectrumKeep = 4
+
+var spectrumFree = struct {
+	sync.Mutex
+	m map[int][]*spectrumWork
+}{m: map[int][]*spectrumWork{}}
 
 func getSpectrumWork(n int) *spectrumWork {
-	p, ok := spectrumPools.Load(n)
-	if !ok {
-		p, _ = spectrumPools.LoadOrStore(n, &sync.Pool{New: func() any {
-			return &spectrumWork{n: n, rfft: fourier.NewFFT(n), re: make([]float64, n), half: make([]complex128, n/2+1)}
-		}})
+	spectrumFree.Lock()
+	if l := spectrumFree.m[n]; len(l) > 0 {
+		w := l[len(l)-1]
+		spectrumFree.m[n] = l[:len(l)-1]
+		spectrumFree.Unlock()
+		return w
 	}
-	return p.(*sync.Pool).Get().(*spectrumWork)
+	spectrumFree.Unlock()
+	return &spectrumWork{n: n, rfft: fourier.NewFFT(n), re: make([]float64, n), half: make([]complex128, n/2+1)}
 }
 
 func putSpectrumWork(w *spectrumWork) {
-	if p, ok := spectrumPools.Load(w.n); ok {
-		p.(*sync.Pool).Put(w)
+	// the largest transforms (a long record's) are not kept, and of the
+	// large ones only one per length: their memory would stay with the
+	// daemon between long files (at most a few MB in all)
+	keep := spectrumKeep
+	switch {
+	case w.n > 1<<17:
+		return
+	case w.n > 1<<14:
+		keep = 1
 	}
+	spectrumFree.Lock()
+	if l := spectrumFree.m[w.n]; len(l) < keep {
+		spectrumFree.m[w.n] = append(l, w)
+	}
+	spectrumFree.Unlock()
 }
 
 // transform loads x, zero-padded to w.n, and leaves its one-sided DFT in

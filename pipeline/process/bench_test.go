@@ -3,6 +3,7 @@ package process_test
 import (
 	"bytes"
 	"context"
+	"os"
 	"testing"
 
 	"github.com/ringlog/ringlog/pipeline"
@@ -121,8 +122,16 @@ func sixModeCSV(b *testing.B) []byte {
 
 // BenchmarkSixModes is parse + analysis of the six-mode file, as `ringlog
 // analyze` does it; compare with BenchmarkSixModesReadFFT in the same run.
+//
+// With RINGLOG_SIX_CSV set, the file is also written there (for the peak
+// memory of `ringlog analyze` on it, README "Speed").
 func BenchmarkSixModes(b *testing.B) {
 	data := sixModeCSV(b)
+	if p := os.Getenv("RINGLOG_SIX_CSV"); p != "" {
+		if err := os.WriteFile(p, data, 0o644); err != nil {
+			b.Fatal(err)
+		}
+	}
 	b.SetBytes(int64(len(data)))
 	b.ReportMetric(float64(len(data))/1e6, "MB")
 	opt := process.Defaults()
