@@ -199,10 +199,24 @@ func adcStep(x []float64) float64 {
 	if math.IsInf(d, 1) || d < span*0x1p-20 {
 		return 0
 	}
-	tol := 1e-3
+	// the smallest gap is itself rounded (a text file keeps 6 or 7
+	// digits): refine the step by least squares over the grid indices,
+	// nearest gaps first so that the index is never off by one
+	for _, lim := range []float64{16, 256, math.Inf(1)} {
+		var sq, sv float64
+		for _, v := range s {
+			if q := math.Round((v - s[0]) / d); q <= lim {
+				sq += q * q
+				sv += q * (v - s[0])
+			}
+		}
+		if sq > 0 {
+			d = sv / sq
+		}
+	}
 	for _, v := range s {
 		q := (v - s[0]) / d
-		if math.Abs(q-math.Round(q)) > tol {
+		if math.Abs(q-math.Round(q)) > 0.05 {
 			return 0
 		}
 	}
