@@ -14,6 +14,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"strings"
+	"sync/atomic"
 	"testing"
 	"time"
 
@@ -516,4 +517,41 @@ func TestFutureHitTimeFlagged(t *testing.T) {
 	if n != 2 {
 		t.Errorf("history has %d hits, want 2:\n%s", n, stdout)
 	}
+}
+
+// TestReleaseWhenIdle: memory stayed high after a burst; the daemon now
+// gives it back once per burst, after the idle time.
+func TestReleaseWhenIdle(t *testing.T) {
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	var last atomic.Int64
+	var calls atomic.Int32
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		releaseWhenIdle(ctx, last.Load, 40*time.Millisecond, func() { calls.Add(1) })
+	}()
+	time.Sleep(150 * time.Millisecond)
+	if n := calls.Load(); n != 0 {
+		t.Errorf("released %d times before any work", n)
+	}
+	last.Store(time.Now().UnixNano())
+	deadline := time.Now().Add(10 * time.Second)
+	for calls.Load() == 0 && time.Now().Before(deadline) {
+		time.Sleep(10 * time.Millisecond)
+	}
+	time.Sleep(200 * time.Millisecond) // idle on: no second release for the same burst
+	if n := calls.Load(); n != 1 {
+		t.Errorf("released %d times after one burst, want 1", n)
+	}
+	last.Store(time.Now().UnixNano())
+	deadline = time.Now().Add(10 * time.Second)
+	for calls.Load() == 1 && time.Now().Before(deadline) {
+		time.Sleep(10 * time.Millisecond)
+	}
+	if n := calls.Load(); n != 2 {
+		t.Errorf("released %d times after two bursts, want 2", n)
+	}
+	cancel()
+	<-done
 }

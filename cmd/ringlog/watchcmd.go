@@ -9,8 +9,10 @@ import (
 	"net"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/kardianos/service"
@@ -169,7 +171,9 @@ func (m *Main) Run(ctx context.Context) error {
 	cfg := m.Config
 	eng := newEngine(cfg, m.store, m.Log)
 	eng.guard = m.checkDatabase
+	var lastWork atomic.Int64 // unix nanoseconds of the last file stored
 	eng.recorded = func(o outcome, rec db.Outcome, err error) {
+		lastWork.Store(time.Now().UnixNano())
 		if err != nil {
 			// Not stored (database full, disk error): let the next scan
 			// hand the file out again rather than lose it.
@@ -213,6 +217,14 @@ func (m *Main) Run(ctx context.Context) error {
 	fwdDone := m.runForwarder(ctx)
 	reports := make(chan struct{}) // the daily report writer (dailyreport.go)
 	go func() { defer close(reports); scheduleDaily(wctx, cfg, m.store, m.Log) }()
+	idleDone := make(chan struct{})
+	go func() {
+		defer close(idleDone)
+		releaseWhenIdle(wctx, lastWork.Load, idleRelease, func() {
+			debug.FreeOSMemory()
+			m.Log.Debug().Msg("idle: memory returned to the operating system")
+		})
+	}()
 	guardDone := make(chan struct{})
 	go func() { defer close(guardDone); m.guardDatabase(wctx, stopWatch) }()
 	_ = eng.run(ctx, jobs)
@@ -222,6 +234,7 @@ func (m *Main) Run(ctx context.Context) error {
 	liveDone()
 	fwdDone()
 	<-guardDone
+	<-idleDone
 	if lost := m.databaseLost(); lost != nil {
 		m.Log.Error().Err(lost).Msg("ringlog daemon stopped: its database is gone")
 		return lost
@@ -233,6 +246,32 @@ func (m *Main) Run(ctx context.Context) error {
 	// The exit status says how things stand at the exit: a storage error
 	// that has since cleared (later files were stored) is no failure.
 	return eng.lastErr
+}
+
+// idleRelease is how long the daemon waits after the last file of a burst
+// before it gives the memory the burst used back to the operating system
+// (the Go runtime alone returns it only slowly, over minutes).
+const idleRelease = 20 * time.Second
+
+// releaseWhenIdle calls release once after each burst of work: when
+// lastWork (unix nanoseconds, 0 before any work) is at least idle ago and
+// release has not run since that work. It returns when ctx ends.
+func releaseWhenIdle(ctx context.Context, lastWork func() int64, idle time.Duration, release func()) {
+	t := time.NewTicker(max(idle/4, time.Millisecond))
+	defer t.Stop()
+	var released int64
+	for {
+		select {
+		case <-ctx.Done():
+			return
+		case now := <-t.C:
+			w := lastWork()
+			if w != 0 && w != released && now.UnixNano()-w >= int64(idle) {
+				release()
+				released = w
+			}
+		}
+	}
 }
 
 // databaseCheckEvery is how often the daemon looks whether its database

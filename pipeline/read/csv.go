@@ -95,6 +95,9 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 		delim = ';'
 	}
 	decComma := delim != ','
+	if n := bytes.Count(header, []byte{delim}) + 1; n > MaxChannels+1 { // +1: a trailing delimiter
+		return nil, lineErr(name, headerLine, nil, "%d columns in the header; at most %d channels are read (is this a recorder export?)", n, MaxChannels)
+	}
 	cells := bytes.Split(header, []byte{delim})
 	trailing := false
 	if len(cells) > 1 && len(trimSpace(cells[len(cells)-1])) == 0 {

@@ -2,6 +2,7 @@ package read
 
 import (
 	"bytes"
+	"encoding/binary"
 	"os"
 	"path/filepath"
 	"strings"
@@ -86,4 +87,42 @@ func TestMessagesAndMetadataClipped(t *testing.T) {
 	if total > 8<<10 {
 		t.Errorf("metadata holds %d bytes", total)
 	}
+}
+
+// TestChannelsCapped: a CSV header of 5 million columns took 2.4 GB for
+// a 64 MB file, a 65535-channel WAV 1.2 GB; both are now refused with a
+// clear error before their buffers are made.
+func TestChannelsCapped(t *testing.T) {
+	var b bytes.Buffer
+	b.WriteString("# sample_rate: 1000\n")
+	n := MaxChannels + 10
+	for i := range n {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteString("c")
+	}
+	b.WriteString("\n")
+	_, err := CSV(&b, "wide.csv", Options{})
+	wantErr(t, err, "wide.csv", 2, "columns", "at most")
+
+	// A WAV header announcing 65535 channels of 8 bits, with a few bytes
+	// of data.
+	var w bytes.Buffer
+	le := func(v any) { _ = binary.Write(&w, binary.LittleEndian, v) }
+	w.WriteString("RIFF")
+	le(uint32(36 + 8))
+	w.WriteString("WAVEfmt ")
+	le(uint32(16))
+	le(uint16(1))        // PCM
+	le(uint16(65535))    // channels
+	le(uint32(1000))     // rate
+	le(uint32(65535000)) // byte rate
+	le(uint16(65535))    // block align
+	le(uint16(8))
+	w.WriteString("data")
+	le(uint32(8))
+	w.Write(make([]byte, 8))
+	_, err = WAV(&w, "many.wav", Options{})
+	wantErr(t, err, "many.wav", -1, "65535 channels", "at most")
 }

@@ -52,6 +52,14 @@ const (
 	MaxSampleRate = 1e9  // Hz
 )
 
+// MaxChannels is the most channels (CSV columns besides time, WAV
+// channels, UFF records) a file may have. Impact tests record a hammer and
+// a few to a few hundred responses; each channel costs its own buffers and
+// analysis, so a file with tens of thousands (a spreadsheet's one long row,
+// a broken header) is refused with a clear error rather than taking
+// gigabytes.
+const MaxChannels = 1024
+
 // forceWords are the name parts that mark a force channel by default.
 var forceWords = []string{"force", "hammer", "load", "impact"}
 
@@ -70,6 +78,9 @@ func finish(rec *pipeline.Recording, opt Options, forceHint []bool) error {
 	}
 	if len(rec.Channels) == 0 {
 		return fileErr(name, nil, "no channels")
+	}
+	if len(rec.Channels) > MaxChannels {
+		return fileErr(name, nil, "%d channels; at most %d channels are read", len(rec.Channels), MaxChannels)
 	}
 	n := len(rec.Channels[0].Samples)
 	seen := make(map[string]bool, len(rec.Channels))

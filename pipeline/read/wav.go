@@ -191,6 +191,9 @@ func readWAVFmt(w *wavIn, name string, chunkOff, sz int64) (*wavFmt, error) {
 	if f.channels == 0 {
 		return nil, offErr(name, at(2), nil, "zero channels")
 	}
+	if f.channels > MaxChannels {
+		return nil, offErr(name, at(2), nil, "%d channels; at most %d channels are read", f.channels, MaxChannels)
+	}
 	if f.rate == 0 {
 		return nil, offErr(name, at(4), nil, "sample rate is zero")
 	}
