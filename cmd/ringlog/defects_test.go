@@ -18,6 +18,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/read"
@@ -554,4 +555,29 @@ func TestReleaseWhenIdle(t *testing.T) {
 	}
 	cancel()
 	<-done
+}
+
+// TestStatusJSONKeysAlwaysPresent: keys the README documents for
+// 'status --json' were left out when empty.
+func TestStatusJSONKeysAlwaysPresent(t *testing.T) {
+	dbPath := filepath.Join(t.TempDir(), "h.db")
+	store, err := db.Open(context.Background(), dbPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	store.Close()
+	stdout, stderr, code := ringlog(t, "status", "--db", dbPath, "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var obj map[string]json.RawMessage
+	if err := json.Unmarshal([]byte(stdout), &obj); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"database", "pending", "files", "hits", "verdicts", "schema", "daemon_running",
+		"daemon_pid", "daemon_since", "last_hit", "last_error", "folders"} {
+		if _, ok := obj[k]; !ok {
+			t.Errorf("key %q missing: %s", k, stdout)
+		}
+	}
 }

@@ -98,6 +98,8 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 		out := map[string]any{
 			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "verdicts": st.Verdicts,
 			"daemon_running": held, "schema": st.Schema, "folders": nil,
+			// documented keys are always present, null when empty
+			"daemon_pid": nil, "daemon_since": nil, "last_hit": nil, "last_error": nil,
 		}
 		if folders != nil {
 			out["folders"] = folders
