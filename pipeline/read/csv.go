@@ -109,7 +109,7 @@ func readCSV(r io.Reader, name string, opt Options, size int64) (*pipeline.Recor
 	numeric := 0
 	seen := map[string]int{}
 	for i, c := range cells {
-		s := strings.TrimSpace(unquote(toUTF8(trimSpace(c))))
+		s := strings.TrimSpace(unquote(clipBytes(trimSpace(c), MaxName)))
 		if s == "" {
 			return nil, lineErr(name, headerLine, nil, "column %d has no name in the header", i+1)
 		}

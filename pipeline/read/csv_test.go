@@ -347,7 +347,7 @@ func TestCSVLongLines(t *testing.T) {
 		if i > 0 {
 			b.WriteByte(',')
 		}
-		fmt.Fprintf(&b, "%sc%d", pad, i)
+		fmt.Fprintf(&b, "c%d_%s", i, strings.Repeat("x", 290))
 	}
 	for r := 0; r < 3; r++ {
 		b.WriteByte('\n')

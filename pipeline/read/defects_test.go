@@ -126,3 +126,18 @@ func TestChannelsCapped(t *testing.T) {
 	_, err = WAV(&w, "many.wav", Options{})
 	wantErr(t, err, "many.wav", -1, "65535 channels", "at most")
 }
+
+// TestChannelNamesClipped: a header cell of megabytes became a channel
+// name that was stored and printed whole.
+func TestChannelNamesClipped(t *testing.T) {
+	long := strings.Repeat("n", 4<<20)
+	rec, err := CSV(bytes.NewReader([]byte("# sample_rate: 1000\nforce,"+long+" [m/s^2]\n0,1\n0,2\n0,3\n")), "name.csv", Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range rec.Channels {
+		if len(c.Name) > MaxName+40 || len(c.Unit) > MaxName+40 {
+			t.Errorf("channel name of %d bytes, unit of %d bytes: not clipped", len(c.Name), len(c.Unit))
+		}
+	}
+}

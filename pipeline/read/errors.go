@@ -80,6 +80,7 @@ const (
 	MaxProblem  = 1000 // bytes of a whole problem text
 	MaxMetaKey  = 128  // bytes of a metadata key
 	MaxMetaText = 1024 // bytes of a metadata value
+	MaxName     = 200  // bytes of a channel name or unit
 )
 
 // problem formats a message, clipping every text argument to MaxQuoted

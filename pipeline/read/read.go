@@ -83,6 +83,10 @@ func finish(rec *pipeline.Recording, opt Options, forceHint []bool) error {
 		return fileErr(name, nil, "%d channels; at most %d channels are read", len(rec.Channels), MaxChannels)
 	}
 	n := len(rec.Channels[0].Samples)
+	for i := range rec.Channels {
+		rec.Channels[i].Name = Clip(rec.Channels[i].Name, MaxName)
+		rec.Channels[i].Unit = Clip(rec.Channels[i].Unit, MaxName)
+	}
 	seen := make(map[string]bool, len(rec.Channels))
 	for i := range rec.Channels {
 		if seen[rec.Channels[i].Name] {
