@@ -182,14 +182,23 @@ func TestSlowWriterHandedOutOnceAfterLastWrite(t *testing.T) {
 	chunk := []byte(strings.Repeat("0.125;-0.5\n", 10)) // 110 bytes
 	const chunks = 25                                   // one every 100 ms: 2.5 s, each gap well below the settle period
 	var lastWriteStart time.Time
+	var maxGap time.Duration // the longest pause between two writes
 	for i := range chunks {
 		time.Sleep(100 * time.Millisecond)
+		if !lastWriteStart.IsZero() {
+			maxGap = max(maxGap, time.Since(lastWriteStart))
+		}
 		lastWriteStart = time.Now()
 		if _, err := f.Write(chunk); err != nil {
 			t.Fatal(err)
 		}
 		if n := s.count(path); n != 0 {
-			t.Fatalf("handed out after chunk %d of %d, while still being written", i, chunks)
+			if maxGap >= settle {
+				// A loaded machine paused the writer longer than the
+				// settle period: handing the file out was right.
+				t.Skipf("the writer paused %v (settle %v); the write rhythm could not be held", maxGap, settle)
+			}
+			t.Fatalf("handed out after chunk %d of %d, while still being written (longest pause %v)", i, chunks, maxGap)
 		}
 	}
 	if err := f.Close(); err != nil {
