@@ -280,7 +280,7 @@ func (s *Server) campaign(ctx context.Context, h db.Hit) (*report.Identified, er
 	if s.opt.Expected != nil {
 		expected = s.opt.Expected(h.Meta.Prototype)
 	}
-	hits, err := s.store.Hits(ctx, db.Filter{Prototype: h.Meta.Prototype})
+	hits, err := s.store.Hits(ctx, db.Filter{Prototype: h.Meta.Prototype, ForStats: true})
 	if err != nil {
 		return nil, err
 	}
