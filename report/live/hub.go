@@ -13,7 +13,8 @@ type hub struct {
 	mu   sync.Mutex
 	max  int
 	subs map[chan struct{}]bool
-	cur  []byte
+	cur  []byte // the main part
+	ev   []byte // the same as one server-sent event, formatted once
 	id   int64
 	seq  uint64
 	done chan struct{}
@@ -54,7 +55,7 @@ func (h *hub) streams() int {
 func (h *hub) publish(id int64, b []byte) {
 	h.mu.Lock()
 	defer h.mu.Unlock()
-	h.cur, h.id = b, id
+	h.cur, h.id, h.ev = b, id, sseEvent("hit", id, b)
 	h.seq++
 	for c := range h.subs {
 		select {
@@ -73,6 +74,13 @@ func (h *hub) latestSeq() ([]byte, int64, uint64, bool) {
 	h.mu.Lock()
 	defer h.mu.Unlock()
 	return h.cur, h.id, h.seq, h.seq > 0
+}
+
+// latestEvent returns the latest version as a formatted event.
+func (h *hub) latestEvent() ([]byte, uint64, bool) {
+	h.mu.Lock()
+	defer h.mu.Unlock()
+	return h.ev, h.seq, h.seq > 0
 }
 
 // close ends every stream.

@@ -146,12 +146,12 @@ func (s *Server) events(w http.ResponseWriter, r *http.Request) {
 	}
 	var seq uint64
 	send := func() bool {
-		b, id, n, ok := s.hub.latestSeq()
+		ev, n, ok := s.hub.latestEvent()
 		if !ok || n == seq {
 			return true
 		}
 		seq = n
-		return write(sseEvent("hit", id, b))
+		return write(ev)
 	}
 	if s.isRendered() && !send() {
 		return
