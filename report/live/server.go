@@ -210,7 +210,7 @@ func (s *Server) Serve(ctx context.Context, ln net.Listener) error {
 // minRenderGap is the least time between two drawings of the page: hits
 // that arrive closer together (a burst) are drawn together, so that the
 // page takes little from the recording.
-const minRenderGap = 200 * time.Millisecond
+const minRenderGap = 500 * time.Millisecond
 
 // renderLoop draws the main part of the page after each notification (at
 // most once per minRenderGap), and once a minute when the day changed.
