@@ -3,6 +3,7 @@ package live
 import (
 	"context"
 	"errors"
+	"fmt"
 	"io"
 	"net"
 	"net/http"
@@ -331,4 +332,46 @@ func TestNoTraversal(t *testing.T) {
 func isTimeout(err error) bool {
 	var ne net.Error
 	return errors.As(err, &ne) && ne.Timeout()
+}
+
+// TestSlowClient: a client that sends its headers too slowly (or never
+// ends them) is cut off after HeaderTimeout, and headers beyond 16 KB are
+// refused: a few idle sockets cannot hold the daemon's connections.
+func TestSlowClient(t *testing.T) {
+	f := newFixture(t)
+	s := f.server(t, Options{Limits: Limits{HeaderTimeout: 300 * time.Millisecond}})
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- s.Serve(ctx, ln) }()
+	defer func() { cancel(); <-done }()
+	c, err := net.Dial("tcp", ln.Addr().String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer c.Close()
+	io.WriteString(c, "GET /api/status HTTP/1.1\r\nHost: 127.0.0.1\r\nX-Slow: ")
+	start := time.Now()
+	c.SetReadDeadline(time.Now().Add(10 * time.Second))
+	b, err := io.ReadAll(c)
+	if isTimeout(err) || time.Since(start) > 3*time.Second {
+		t.Errorf("a client that never ends its headers was kept %v (%v)", time.Since(start), err)
+	}
+	if strings.Contains(string(b), "200 OK") {
+		t.Errorf("the unfinished request was answered: %q", b)
+	}
+	c2, err := net.Dial("tcp", ln.Addr().String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer c2.Close()
+	fmt.Fprintf(c2, "GET /api/status HTTP/1.1\r\nHost: 127.0.0.1\r\nX-Big: %s\r\n\r\n", strings.Repeat("a", 40<<10))
+	c2.SetReadDeadline(time.Now().Add(10 * time.Second))
+	b, _ = io.ReadAll(c2)
+	if !strings.Contains(string(b), "431") {
+		t.Errorf("40 KB of headers: %.100q, want 431", b)
+	}
 }

@@ -68,6 +68,7 @@ type Limits struct {
 	StreamLifetime time.Duration // an event stream is closed after this (default 30 min); the browser reconnects
 	Heartbeat      time.Duration // a comment line keeps idle streams alive (default 15 s)
 	RequestTimeout time.Duration // reading a request and writing a reply (default 30 s; reports 60 s)
+	HeaderTimeout  time.Duration // reading a request's headers (default 5 s)
 	MaxReports     int           // reports drawn at once (default 1); more get 503
 }
 
@@ -92,6 +93,9 @@ func (l *Limits) defaults() {
 	}
 	if l.RequestTimeout <= 0 {
 		l.RequestTimeout = 30 * time.Second
+	}
+	if l.HeaderTimeout <= 0 {
+		l.HeaderTimeout = 5 * time.Second
 	}
 }
 
@@ -175,7 +179,7 @@ func (s *Server) Serve(ctx context.Context, ln net.Listener) error {
 	lim := s.opt.Limits
 	srv := &http.Server{
 		Handler:           s.handler,
-		ReadHeaderTimeout: 5 * time.Second,
+		ReadHeaderTimeout: lim.HeaderTimeout,
 		ReadTimeout:       lim.RequestTimeout,
 		WriteTimeout:      2 * lim.RequestTimeout, // event streams extend their own deadline
 		IdleTimeout:       60 * time.Second,
