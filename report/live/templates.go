@@ -39,7 +39,7 @@ th,td{text-align:left;padding:6px 8px;border-bottom:1px solid var(--rule);vertic
 th{font-size:.8rem;text-transform:uppercase;letter-spacing:.04em;color:var(--muted)}
 td.n,th.n{text-align:right}
 .modes td{font-size:1.35rem}
-.modes td.lab{font-weight:700}
+.modes td.lab{font-weight:700;white-space:nowrap}
 .modes .ci{display:block;font-size:.85rem;color:var(--muted)}
 .bandt{display:block;font-size:.85rem;color:var(--muted)}
 .judge{font-weight:700;font-size:.95rem}
