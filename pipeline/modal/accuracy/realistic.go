@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"math/rand/v2"
 	"runtime"
 	"sync"
 
@@ -52,7 +53,8 @@ type realTrial struct {
 }
 
 // RunRealistic runs the clean cases of field.Corpus with fresh noise per
-// trial through process.Recording (every rule included, as the daemon
+// trial (and a hit up to 10 % harder or softer, a strike shifted by up to
+// a sample) through process.Recording (every rule included, as the daemon
 // runs it) and prints one row per mode. The Cramer-Rao bound of a mode is
 // modal.CRBZeta on its free decay from the end of the hammer contact to
 // the record's end, with the amplitude and phase the generator reports
@@ -152,8 +154,7 @@ feed:
 }
 
 func realisticTrial(ctx context.Context, c field.Case, seed uint64) (realTrial, error) {
-	s := c.Spec
-	s.Seed = seed
+	s := jitter(c.Spec, seed)
 	rec, err := field.Generate(s)
 	if err != nil {
 		return realTrial{}, fmt.Errorf("accuracy: %s: %w", c.Name, err)
@@ -170,6 +171,25 @@ func realisticTrial(ctx context.Context, c field.Case, seed uint64) (realTrial, 
 		return realTrial{}, fmt.Errorf("accuracy: %s, seed %d: %w", c.Name, seed, err)
 	}
 	return realTrial{res: res, rec: rec}, nil
+}
+
+// jitter returns the case's spec for one trial: its own noise (seed), a
+// hit up to 10 % harder or softer (the mode amplitudes and the force
+// scale together) and a strike time shifted by up to one sample, as
+// successive hits of a campaign differ; without it the ADC's rounding
+// error would be the same in every trial.
+func jitter(spec field.Spec, seed uint64) field.Spec {
+	r := rand.New(rand.NewPCG(seed, 0x717e))
+	s := spec
+	s.Seed = seed
+	k := 0.9 + 0.2*r.Float64()
+	s.Modes = append([]field.Mode(nil), spec.Modes...)
+	for i := range s.Modes {
+		s.Modes[i].Amplitude *= k
+	}
+	s.Hammer.PeakN *= k
+	s.PreTrigger += r.Float64() / s.SampleRate
+	return s
 }
 
 // realisticCRB is the bound of mode k of rec (see RunRealistic).
@@ -198,7 +218,7 @@ func summarizeRealistic(c field.Case, ts []realTrial) []RealisticRow {
 		for _, t := range ts {
 			tr := t.rec.Modes[k]
 			if tr.Nonlinear {
-				r.ZetaHigh = math.Max(r.ZetaHigh, m.EquivalentZeta(tr.Amplitude))
+				r.ZetaHigh = math.Max(r.ZetaHigh, t.rec.Spec.Modes[k].EquivalentZeta(tr.Amplitude))
 			}
 			crb := realisticCRB(t.rec, k)
 			crb2 += crb * crb
@@ -265,7 +285,8 @@ func PrintRealistic(w io.Writer, rows []RealisticRow, cfg RealisticConfig) error
 	}
 	pw := &errWriter{w: w}
 	pw.printf("Realistic recordings: the clean cases of the corpus (pipeline/synth/field: time-integrated structure, hammer,\n")
-	pw.printf("sensor, amplifier, anti-alias filter, ADC), fresh noise per trial, the whole analysis with every rule; %d trials per case, seed %d\n", cfg.Trials, cfg.Seed)
+	pw.printf("sensor, amplifier, anti-alias filter, ADC); per trial fresh noise, a hit within +/-10 %% of the nominal force and a strike\n")
+	pw.printf("shifted by up to a sample; the whole analysis with every rule; %d trials per case, seed %d\n", cfg.Trials, cfg.Seed)
 	pw.printf("CRB: Cramer-Rao bound of the free decay with the recorded noise's density at the mode's frequency\n")
 	pw.printf("Targets: RMS error <= %.0f x CRB (an amplitude-dependent damping counts from the range it passes through, zeta..zeta high),\n", TargetRealisticRMSRatio)
 	pw.printf("95 %% interval coverage %.0f-%.0f %%, no reason on any trial (flagged = trials with any reason)\n\n", TargetCoverageLo, TargetCoverageHi)
