@@ -345,3 +345,31 @@ func TestCorpusFilesUpToDate(t *testing.T) {
 		}
 	}
 }
+
+// The chain's natural frequencies against the closed form for a
+// fixed-free chain of n equal masses and springs,
+// w_r = 2 sqrt(k/m) sin((2r - 1) pi / (2 (2n + 1))), r = 1..n (e.g.
+// Meirovitch, Elements of Vibration Analysis, lumped systems; from
+// memory), and the driving-point amplitudes all positive.
+func TestChainModes(t *testing.T) {
+	c := Chain{Masses: 6, MassKg: 2, Stiffness: 3e5, Drive: 5, Response: 5}
+	ms, err := ChainModes(c, 0.1, 0.01)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ms) != 6 {
+		t.Fatalf("%d modes", len(ms))
+	}
+	for r, m := range ms {
+		w := 2 * math.Sqrt(c.Stiffness/c.MassKg) * math.Sin(float64(2*r+1)*math.Pi/float64(2*(2*c.Masses+1)))
+		if want := w / (2 * math.Pi); math.Abs(m.FrequencyHz-want) > 1e-9*want {
+			t.Errorf("mode %d: %.9g Hz, closed form %.9g", r+1, m.FrequencyHz, want)
+		}
+		if !(m.Amplitude > 0) {
+			t.Errorf("mode %d: driving-point amplitude %g", r+1, m.Amplitude)
+		}
+	}
+	if _, err := ChainModes(Chain{Masses: 3, MassKg: 1, Stiffness: 1, Drive: 3}, 1, 0.01); err == nil {
+		t.Error("a drive point off the chain was accepted")
+	}
+}
