@@ -254,9 +254,9 @@ func (db *DB) closePostgres() error {
 // locks take two 32-bit keys); the second is a hash of the bay's name.
 const bayLockClass = 0x726c // "rl"
 
-func bayKey(bay string) int64 {
+func bayKey(schemaAndBay string) int64 {
 	h := fnv.New32a()
-	h.Write([]byte(bay))
+	h.Write([]byte(schemaAndBay))
 	return int64(h.Sum32() & 0x7fffffff)
 }
 
@@ -312,8 +312,17 @@ func (l *BayLock) take(ctx context.Context) error {
 	if err != nil {
 		return fmt.Errorf("database %s: bay %s: lock connection: %w", l.db.path, l.bay, err)
 	}
+	// Advisory locks are per database, while a history is per schema
+	// (search_path): the key names both, so histories side by side in one
+	// database lock their bays apart.
+	var schema string
+	if err := conn.QueryRow(ctx, "SELECT coalesce(current_schema(), '')").Scan(&schema); err != nil {
+		conn.Close(ctx)
+		return fmt.Errorf("database %s: bay %s: lock: %w", l.db.path, l.bay, err)
+	}
+	key := bayKey(schema + "\x00" + l.bay)
 	var ok bool
-	if err := conn.QueryRow(ctx, "SELECT pg_try_advisory_lock($1::int, $2::int)", bayLockClass, bayKey(l.bay)).Scan(&ok); err != nil {
+	if err := conn.QueryRow(ctx, "SELECT pg_try_advisory_lock($1::int, $2::int)", bayLockClass, key).Scan(&ok); err != nil {
 		conn.Close(ctx)
 		return fmt.Errorf("database %s: bay %s: lock: %w", l.db.path, l.bay, err)
 	}
@@ -325,7 +334,7 @@ func (l *BayLock) take(ctx context.Context) error {
 SELECT coalesce(a.application_name, ''), coalesce(a.backend_start, now())
 FROM pg_locks k JOIN pg_stat_activity a ON a.pid = k.pid
 WHERE k.locktype = 'advisory' AND k.granted AND k.classid::bigint = $1 AND k.objid::bigint = $2 AND k.objsubid = 2
-LIMIT 1`, int64(bayLockClass), bayKey(l.bay)).Scan(&app, &started)
+LIMIT 1`, int64(bayLockClass), key).Scan(&app, &started)
 		if err == nil {
 			le.PID, le.Host = parseHolder(app)
 			le.Since = started
