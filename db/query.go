@@ -30,6 +30,9 @@ type Filter struct {
 	// ForStats loads only what the statistics read (see statsHits): no
 	// estimates, intervals, reason messages or metadata.
 	ForStats bool
+	// Synthetic selects the synthetic hits (made for benchmarks, see
+	// RecordSynthetic) instead of the real ones: a query never mixes them.
+	Synthetic bool
 }
 
 // Hit is one stored hit with its current result.
@@ -62,7 +65,10 @@ type StoredFile struct {
 // where builds the WHERE clause of f over hits h (and results r joined as
 // the current result).
 func (f Filter) where() (string, []any) {
-	var conds []string
+	conds := []string{"h.first_path NOT LIKE '" + SyntheticPathPrefix + "%'"}
+	if f.Synthetic {
+		conds[0] = "h.first_path LIKE '" + SyntheticPathPrefix + "%'"
+	}
 	var args []any
 	eq := func(col, v string) {
 		if v != "" {
@@ -92,9 +98,6 @@ func (f Filter) where() (string, []any) {
 	if f.ModeLabel != "" {
 		conds = append(conds, "EXISTS (SELECT 1 FROM modes m WHERE m.label = ? AND m.result_id = r.id)")
 		args = append(args, f.ModeLabel)
-	}
-	if len(conds) == 0 {
-		return "", nil
 	}
 	return " WHERE " + strings.Join(conds, " AND "), args
 }
@@ -417,7 +420,7 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 			return err
 		}
 		st.Pending = st.Files[StatePending]
-		if err := countInto(ctx, tx, "SELECT verdict, count(*) FROM hits GROUP BY verdict", func(k string, n int) {
+		if err := countInto(ctx, tx, "SELECT verdict, count(*) FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' GROUP BY verdict", func(k string, n int) {
 			st.Verdicts[pipeline.Verdict(k)] = n
 			st.Hits += n
 		}); err != nil {
@@ -426,7 +429,7 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 		var lh LastHit
 		var ht, ing int64
 		err := tx.QueryRowContext(ctx,
-			"SELECT id, first_path, hit_time, ingested_at, verdict FROM hits ORDER BY ingested_at DESC, id DESC LIMIT 1").
+			"SELECT id, first_path, hit_time, ingested_at, verdict FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' ORDER BY ingested_at DESC, id DESC LIMIT 1").
 			Scan(&lh.ID, &lh.Path, &ht, &ing, &lh.Verdict)
 		switch {
 		case err == nil:

@@ -94,6 +94,9 @@ func prepareRecord(fi FileInfo, meta HitMeta, res *pipeline.Result, settings any
 	if fi.Path == "" {
 		return in, errors.New("empty path")
 	}
+	if strings.HasPrefix(fi.Path, SyntheticPathPrefix) {
+		return in, fmt.Errorf("path %q: the prefix %q marks synthetic hits", fi.Path, SyntheticPathPrefix)
+	}
 	if !validSHA256(in.fi.SHA256) {
 		return in, fmt.Errorf("SHA-256 %q is not 64 hex digits", in.fi.SHA256)
 	}

@@ -105,6 +105,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 	dbPath := fl.String("db", "", "history database")
 	cfgPath := fl.String("config", "", "TOML configuration naming the database")
 	asJSON := fl.Bool("json", false, "print one JSON object per hit, one per line")
+	synthetic := fl.Bool("synthetic", false, "list the synthetic hits made by synth-history instead of the real ones")
 	ff := addFilterFlags(fl)
 	rest, err := parseInterleaved(fl, args)
 	if err != nil {
@@ -117,6 +118,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	f.Synthetic = *synthetic
 	path, err := dbFromFlags(*dbPath, *cfgPath)
 	if err != nil {
 		return err

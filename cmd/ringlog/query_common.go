@@ -19,6 +19,7 @@ import (
 // reportFlags are the flags every history report has.
 type reportFlags struct {
 	dbPath, cfgPath, prototype *string
+	synthetic                  *bool
 }
 
 func addReportFlags(fs *flag.FlagSet) *reportFlags {
@@ -26,6 +27,7 @@ func addReportFlags(fs *flag.FlagSet) *reportFlags {
 		dbPath:    fs.String("db", "", "history database (required unless --config names one)"),
 		cfgPath:   fs.String("config", "", "TOML configuration: the database and the expected modes of the prototype ([[prototype]] entries)"),
 		prototype: fs.String("prototype", "", "the prototype to report on (required)"),
+		synthetic: fs.Bool("synthetic", false, "report on the synthetic hits made by synth-history instead of the real ones"),
 	}
 }
 
@@ -34,6 +36,7 @@ func addReportFlags(fs *flag.FlagSet) *reportFlags {
 type reportSource struct {
 	store     *db.DB
 	prototype string
+	synthetic bool
 	identify  rpt.IdentifyOptions
 }
 
@@ -44,7 +47,7 @@ func (rf *reportFlags) open(ctx context.Context) (*reportSource, error) {
 		return nil, usagef("--prototype P is required")
 	}
 	path := *rf.dbPath
-	src := &reportSource{prototype: *rf.prototype}
+	src := &reportSource{prototype: *rf.prototype, synthetic: *rf.synthetic}
 	if *rf.cfgPath != "" {
 		cfg, err := loadConfig(*rf.cfgPath)
 		if err != nil {
@@ -90,6 +93,7 @@ func expectedModes(cfg *Config, prototype string) []rpt.Expected {
 // here) selects; with revisions, only those revisions.
 func (s *reportSource) hits(ctx context.Context, f db.Filter, revisions ...string) ([]db.Hit, error) {
 	f.Prototype = s.prototype
+	f.Synthetic = s.synthetic
 	f.ForStats = true
 	hits, err := s.store.Hits(ctx, f)
 	if err != nil {

@@ -66,6 +66,7 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 	dayFlag := fs.String("day", "", "the day to report on, YYYY-MM-DD in local time (default: today)")
 	out := fs.String("out", "", "the page to write (default: ringlog-daily-YYYY-MM-DD.html in the configured report folder, or in the current folder)")
 	cfgPath := fs.String("config", "", "TOML configuration: the database, the expected modes of each prototype, the report folder and how files are read")
+	synthetic := fs.Bool("synthetic", false, "report on the synthetic hits made by synth-history instead of the real ones")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -101,7 +102,7 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer store.Close()
-	sum, err := writeDaily(ctx, store, dailyOptions(cfg, day, path), target)
+	sum, err := writeDaily(ctx, pageSource(store, *synthetic), dailyOptions(cfg, day, path), target)
 	if err != nil {
 		return err
 	}
@@ -121,6 +122,7 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 	fs.Var(&revs, "revision", "a revision; give it twice, the first is the reference A")
 	out := fs.String("out", "", "the page to write (default: ringlog-compare-P-A-B.html in the current folder)")
 	cfgPath := fs.String("config", "", "TOML configuration: the database and the expected modes of the prototype")
+	synthetic := fs.Bool("synthetic", false, "compare the synthetic hits made by synth-history instead of the real ones")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -162,7 +164,7 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 		opt.Expected = dailyOptions(cfg, time.Now(), path).Expected(*proto)
 	}
 	var buf strings.Builder
-	sum, err := page.Compare(ctx, &buf, store, opt)
+	sum, err := page.Compare(ctx, &buf, pageSource(store, *synthetic), opt)
 	if errors.Is(err, page.ErrNoHits) {
 		return fmt.Errorf("%w (no page written)", err)
 	}
