@@ -10,6 +10,7 @@ import (
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/robust"
 )
 
 // Expected is one mode a prototype is expected to have (from the
@@ -490,5 +491,5 @@ func median(x []float64) float64 {
 	if len(x) == 0 {
 		return math.NaN()
 	}
-	return medianInPlace(slices.Clone(x))
+	return robust.MedianInPlace(slices.Clone(x))
 }

@@ -9,6 +9,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+
+	"github.com/ringlog/ringlog/pipeline/robust"
 )
 
 // Bounds of Sen's slope.
@@ -172,7 +174,7 @@ func senSlope(t, x []float64) SenDetail {
 		}
 		d.Sample = len(slopes)
 	}
-	d.Slope = medianInPlace(slopes)
+	d.Slope = robust.MedianInPlace(slopes)
 	if d.Sample > 0 {
 		d.Rank = float64(slopesAtOrBelow(t, x, d.Slope)) / float64(d.Pairs)
 	} else {
@@ -189,80 +191,6 @@ func countAtOrBelow(s []float64, v float64) int64 {
 		}
 	}
 	return c
-}
-
-// medianInPlace returns the median of s (the mean of the two middle
-// values for an even length) by selection; s is reordered. With a NaN in
-// s it sorts instead (NaN first, as sort.Float64s orders it).
-func medianInPlace(s []float64) float64 {
-	n := len(s)
-	if n == 0 {
-		return math.NaN()
-	}
-	for _, v := range s {
-		if v != v {
-			sort.Float64s(s)
-			if n%2 == 1 {
-				return s[n/2]
-			}
-			return (s[n/2-1] + s[n/2]) / 2
-		}
-	}
-	hi := selectK(s, n/2)
-	if n%2 == 1 {
-		return hi
-	}
-	// the largest of the lower half
-	lo := s[0]
-	for _, v := range s[1 : n/2] {
-		if v > lo {
-			lo = v
-		}
-	}
-	return (lo + hi) / 2
-}
-
-// selectK reorders s so that s[k] is the value a full sort would put
-// there, everything before it is <= s[k] and everything after >= s[k]
-// (Hoare's selection with a median-of-three pivot); it returns s[k].
-func selectK(s []float64, k int) float64 {
-	lo, hi := 0, len(s)-1
-	for hi > lo {
-		mid := lo + (hi-lo)/2
-		if s[mid] < s[lo] {
-			s[mid], s[lo] = s[lo], s[mid]
-		}
-		if s[hi] < s[lo] {
-			s[hi], s[lo] = s[lo], s[hi]
-		}
-		if s[hi] < s[mid] {
-			s[hi], s[mid] = s[mid], s[hi]
-		}
-		p := s[mid]
-		i, j := lo, hi
-		for i <= j {
-			for s[i] < p {
-				i++
-			}
-			for s[j] > p {
-				j--
-			}
-			if i <= j {
-				s[i], s[j] = s[j], s[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return s[k]
-		}
-	}
-	return s[k]
 }
 
 // slopesAtOrBelow counts the pairs with distinct times whose slope is at

@@ -6,6 +6,7 @@ import (
 
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/modal"
+	"github.com/ringlog/ringlog/pipeline/robust"
 	"gonum.org/v1/gonum/stat"
 )
 
@@ -83,54 +84,12 @@ func median(x []float64) float64 {
 			s = append(s, v)
 		}
 	}
-	n := len(s)
-	if n == 0 {
+	if len(s) == 0 {
 		return 0
 	}
 	// Selection instead of a full sort: a force channel of a long record
-	// has close to a million samples. Same value as the sorted median
-	// (the mean of the two middle values for even n).
-	hi := selectK(s, n/2)
-	if n%2 == 1 {
-		return hi
-	}
-	lo := s[0]
-	for _, v := range s[:n/2] {
-		lo = math.Max(lo, v)
-	}
-	return (lo + hi) / 2
-}
-
-// selectK reorders s so that s[k] is the value a sort would put there,
-// with no larger value before it (Hoare's selection, expected linear time).
-func selectK(s []float64, k int) float64 {
-	lo, hi := 0, len(s)-1
-	for lo < hi {
-		pivot := s[lo+(hi-lo)/2]
-		i, j := lo, hi
-		for i <= j {
-			for s[i] < pivot {
-				i++
-			}
-			for s[j] > pivot {
-				j--
-			}
-			if i <= j {
-				s[i], s[j] = s[j], s[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return s[k]
-		}
-	}
-	return s[k]
+	// has close to a million samples.
+	return robust.MedianInPlace(s)
 }
 
 // robustSD returns 1.4826 times the median absolute deviation from the

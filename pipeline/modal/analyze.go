@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/robust"
 )
 
 // Analysis limits.
@@ -180,44 +181,11 @@ func robustSD(v []float64) (med, sd float64) {
 	for i := 0; i < len(v); i += step {
 		s = append(s, v[i])
 	}
-	med = selectK(s, len(s)/2)
+	med = robust.Select(s, len(s)/2)
 	for i := range s {
 		s[i] = math.Abs(s[i] - med)
 	}
-	return med, 1.4826 * selectK(s, len(s)/2)
-}
-
-// selectK reorders s so that s[k] is the value a sort would put there and
-// returns it (Hoare's selection, expected linear time; the upper median
-// s[len/2] of a sort, as the callers used before).
-func selectK(s []float64, k int) float64 {
-	lo, hi := 0, len(s)-1
-	for lo < hi {
-		pivot := s[lo+(hi-lo)/2]
-		i, j := lo, hi
-		for i <= j {
-			for s[i] < pivot {
-				i++
-			}
-			for s[j] > pivot {
-				j--
-			}
-			if i <= j {
-				s[i], s[j] = s[j], s[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return s[k]
-		}
-	}
-	return s[k]
+	return med, 1.4826 * robust.Select(s, len(s)/2)
 }
 
 // locateHit finds trigger, onset, end of the free decay, offset, noise

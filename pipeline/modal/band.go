@@ -5,6 +5,7 @@ import (
 	"math/cmplx"
 	"slices"
 
+	"github.com/ringlog/ringlog/pipeline/robust"
 	"gonum.org/v1/gonum/dsp/fourier"
 )
 
@@ -84,7 +85,7 @@ func spectralPeaks(p []float64, binHz, fmin, fmax float64) []specPeak {
 		return nil
 	}
 	band := slices.Clone(p[kmin : kmax+1])
-	floor := selectK(band, len(band)/2) / math.Ln2
+	floor := robust.Select(band, len(band)/2) / math.Ln2
 	thr := floor * (math.Log(float64(len(band))) + 7)
 	var peaks []specPeak
 	for k := kmin; k <= kmax; k++ {

@@ -12,6 +12,7 @@ import (
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/robust"
 	"github.com/ringlog/ringlog/report"
 )
 
@@ -316,7 +317,7 @@ func nearestLabel(labels []report.ModeLabel, f float64) string {
 // band is the campaign band of earlier values x, with value v and its
 // interval ci placed on a common scale.
 func band(x []float64, v float64, ci [2]float64, format func(float64) string, unit string) *bandView {
-	med := median(x)
+	med := robust.Median(x)
 	dev := bandK * report.MADScale * report.MAD(x)
 	lo, hi := med-dev, med+dev
 	b := &bandView{Text: format(lo) + " – " + format(hi) + unit}
@@ -356,19 +357,6 @@ func band(x []float64, v float64, ci [2]float64, format func(float64) string, un
 		b.CILo, b.CIW = 0, 0
 	}
 	return b
-}
-
-func median(x []float64) float64 {
-	y := slices.Clone(x)
-	slices.Sort(y)
-	n := len(y)
-	if n == 0 {
-		return math.NaN()
-	}
-	if n%2 == 1 {
-		return y[n/2]
-	}
-	return (y[n/2-1] + y[n/2]) / 2
 }
 
 func verdictWord(v pipeline.Verdict) string {
