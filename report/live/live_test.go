@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/report/page"
 )
 
 // TestPageShowsLastHit: the page shows the last hit's verdict in words,
@@ -75,11 +76,11 @@ func TestBands(t *testing.T) {
 		t.Errorf("a hit like the others is not inside its bands")
 	}
 	// A value far above: the band rule itself.
-	b := band([]float64{1, 1.1, 0.9, 1.05, 0.95}, 3, [2]float64{2.8, 3.2}, hz, " Hz")
+	b := band([]float64{1, 1.1, 0.9, 1.05, 0.95}, 3, [2]float64{2.8, 3.2}, page.Hz, " Hz")
 	if b.Inside || b.Judgement != "above the band" {
 		t.Errorf("3 against a band around 1: %+v", b)
 	}
-	if b := band([]float64{1, 1.1, 0.9, 1.05, 0.95}, 1.02, [2]float64{0.98, 1.06}, hz, " Hz"); !b.Inside {
+	if b := band([]float64{1, 1.1, 0.9, 1.05, 0.95}, 1.02, [2]float64{0.98, 1.06}, page.Hz, " Hz"); !b.Inside {
 		t.Errorf("1.02 against a band around 1: %+v", b)
 	}
 }

@@ -14,6 +14,7 @@ import (
 	"github.com/ringlog/ringlog/pipeline"
 	"github.com/ringlog/ringlog/pipeline/robust"
 	"github.com/ringlog/ringlog/report"
+	"github.com/ringlog/ringlog/report/page"
 )
 
 // recentShown is how many hits the list of recent hits shows.
@@ -216,8 +217,8 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 		}
 	}
 	for i, m := range res.Modes {
-		mv := modeView{Label: labels[i], Freq: hz(m.FrequencyHz), FreqCI: hzInterval(m.FrequencyCI95),
-			Damp: pct(m.DampingRatio), DampCI: pctInterval(m.DampingRatioCI), Dropped: m.Dropped}
+		mv := modeView{Label: labels[i], Freq: page.Hz(m.FrequencyHz), FreqCI: page.HzInterval(m.FrequencyCI95),
+			Damp: page.Pct(m.DampingRatio), DampCI: page.PctInterval(m.DampingRatioCI), Dropped: m.Dropped}
 		if mv.Label == "" {
 			mv.Label = m.Label
 		}
@@ -236,8 +237,8 @@ func (s *Server) hitView(ctx context.Context, h db.Hit, loc *time.Location) (*hi
 			}
 			hv.BandHits = max(hv.BandHits, len(f))
 			if len(f) >= minBandHits {
-				mv.FreqBand = band(f, m.FrequencyHz, m.FrequencyCI95, hz, " Hz")
-				mv.DampBand = band(z, m.DampingRatio, m.DampingRatioCI, pct, " %")
+				mv.FreqBand = band(f, m.FrequencyHz, m.FrequencyCI95, page.Hz, " Hz")
+				mv.DampBand = band(z, m.DampingRatio, m.DampingRatioCI, page.Pct, " %")
 			}
 		}
 		hv.Modes = append(hv.Modes, mv)
@@ -402,45 +403,3 @@ func dayBounds(t time.Time) (since, until time.Time) {
 	since = time.Date(y, m, d, 0, 0, 0, 0, t.Location())
 	return since, since.AddDate(0, 0, 1)
 }
-
-// pct writes a damping ratio as a percentage with three significant digits.
-func pct(z float64) string {
-	if math.IsNaN(z) || math.IsInf(z, 0) {
-		return "–"
-	}
-	return strconv.FormatFloat(100*z, 'f', decimals(100*z, 3), 64)
-}
-
-func decimals(x float64, sig int) int {
-	if x == 0 {
-		return sig - 1
-	}
-	d := sig - 1 - int(math.Floor(math.Log10(math.Abs(x))))
-	return min(6, max(0, d))
-}
-
-func pctInterval(ci [2]float64) string {
-	if bad(ci[0]) || bad(ci[1]) {
-		return "–"
-	}
-	d := decimals(100*math.Max(math.Abs(ci[0]), math.Abs(ci[1])), 3)
-	return strconv.FormatFloat(100*ci[0], 'f', d, 64) + " – " + strconv.FormatFloat(100*ci[1], 'f', d, 64)
-}
-
-// hz writes a frequency with four significant digits.
-func hz(f float64) string {
-	if bad(f) {
-		return "–"
-	}
-	return strconv.FormatFloat(f, 'f', decimals(f, 4), 64)
-}
-
-func hzInterval(ci [2]float64) string {
-	if bad(ci[0]) || bad(ci[1]) {
-		return "–"
-	}
-	d := max(decimals(math.Max(ci[1]-ci[0], 1e-9), 2), decimals(ci[1], 4))
-	return strconv.FormatFloat(ci[0], 'f', d, 64) + " – " + strconv.FormatFloat(ci[1], 'f', d, 64)
-}
-
-func bad(x float64) bool { return math.IsNaN(x) || math.IsInf(x, 0) }

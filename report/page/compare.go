@@ -105,7 +105,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 	v.Excluded = exclusionRows(id, a, b)
 	for _, c := range cs {
 		m := compareMode{Name: c.Name, Sentence: c.Sentence, FreqSentence: c.FrequencySentence, Shown: c.Shown,
-			NA: c.NA, NB: c.NB, GeoA: pct(c.GeoMeanA), GeoB: pct(c.GeoMeanB), Ratio: num(c.Ratio, 3),
+			NA: c.NA, NB: c.NB, GeoA: Pct(c.GeoMeanA), GeoB: Pct(c.GeoMeanB), Ratio: num(c.Ratio, 3),
 			RatioCI: interval(c.RatioCI95, 3), P: pValue(c.P), Shift: signedHz(c.FrequencyShift),
 			ShiftCI: signedHz(c.FrequencyShiftCI95[0]) + " – " + signedHz(c.FrequencyShiftCI95[1])}
 		if c.Shown {
@@ -126,7 +126,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 		za, zb := dampings(id.Select(a, c.Label)), dampings(id.Select(b, c.Label))
 		_, ciA := report.GeometricMean(za)
 		_, ciB := report.GeometricMean(zb)
-		m.GeoACI, m.GeoBCI = pctInterval(ciA), pctInterval(ciB)
+		m.GeoACI, m.GeoBCI = PctInterval(ciA), PctInterval(ciB)
 		if len(za) == 0 {
 			m.GeoACI = "–"
 		}
@@ -140,9 +140,9 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 				}
 				switch rs.Revision {
 				case a:
-					m.FreqA = hz(ms.Frequency.Mean)
+					m.FreqA = Hz(ms.Frequency.Mean)
 				case b:
-					m.FreqB = hz(ms.Frequency.Mean)
+					m.FreqB = Hz(ms.Frequency.Mean)
 				}
 			}
 		}
@@ -254,7 +254,7 @@ func signedHz(x float64) string {
 	if math.IsNaN(x) || math.IsInf(x, 0) {
 		return "–"
 	}
-	s := hz(x)
+	s := Hz(x)
 	if x > 0 {
 		s = "+" + s
 	}

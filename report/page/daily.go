@@ -398,9 +398,9 @@ func prototypeView(ctx context.Context, src Source, proto string, since, until t
 					continue
 				}
 				row := modeRow{Revision: orNone(rs.Revision), Class: revClass[rs.Revision], N: ms.Damping.N,
-					Mean: pct(ms.Damping.Mean), CI: pctInterval(ms.Damping.MeanCI95),
-					Geo: pct(ms.Damping.GeoMean), GeoCI: pctInterval(ms.Damping.GeoMeanCI),
-					Freq: hz(ms.Frequency.Mean), FreqCI: hzInterval(ms.Frequency.MeanCI95), Outliers: len(ms.Outliers)}
+					Mean: Pct(ms.Damping.Mean), CI: PctInterval(ms.Damping.MeanCI95),
+					Geo: Pct(ms.Damping.GeoMean), GeoCI: PctInterval(ms.Damping.GeoMeanCI),
+					Freq: Hz(ms.Frequency.Mean), FreqCI: HzInterval(ms.Frequency.MeanCI95), Outliers: len(ms.Outliers)}
 				var tz, tf []float64
 				for _, o := range ms.Obs {
 					if today(o.Time) {
@@ -411,7 +411,7 @@ func prototypeView(ctx context.Context, src Source, proto string, since, until t
 				row.TodayN = len(tz)
 				if len(tz) > 0 {
 					mz, mf := mean(tz), mean(tf)
-					row.TodayMean, row.TodayFreq = pct(mz), hz(mf)
+					row.TodayMean, row.TodayFreq = Pct(mz), Hz(mf)
 					row.Position, row.PositionNote = position(mz, ms.Damping.Summary)
 				}
 				mv.Rows = append(mv.Rows, row)
@@ -700,7 +700,7 @@ func spoiledCards(ctx context.Context, src Source, hits []db.Hit, since, until t
 				c.Modes = append(c.Modes, fmt.Sprintf("and %d more", len(h.Result.Modes)-i))
 				break
 			}
-			s := fmt.Sprintf("%d: %s Hz, ζ %s %% (%s)", i+1, hz(m.FrequencyHz), pct(m.DampingRatio), pctInterval(m.DampingRatioCI))
+			s := fmt.Sprintf("%d: %s Hz, ζ %s %% (%s)", i+1, Hz(m.FrequencyHz), Pct(m.DampingRatio), PctInterval(m.DampingRatioCI))
 			if m.Label != "" {
 				s = m.Label + " " + s
 			}

@@ -7,9 +7,9 @@ import (
 	"strings"
 )
 
-// pct writes a damping ratio as a percentage with three significant
+// Pct writes a damping ratio as a percentage with three significant
 // digits ("1.12", "0.0953"); "–" when it cannot be computed.
-func pct(z float64) string {
+func Pct(z float64) string {
 	if math.IsNaN(z) || math.IsInf(z, 0) {
 		return "–"
 	}
@@ -26,9 +26,9 @@ func decimals(x float64, sig int) int {
 	return min(6, max(0, d))
 }
 
-// pctInterval writes a damping-ratio interval as percentages, with the
+// PctInterval writes a damping-ratio interval as percentages, with the
 // digits of its wider end.
-func pctInterval(ci [2]float64) string {
+func PctInterval(ci [2]float64) string {
 	if math.IsNaN(ci[0]) || math.IsNaN(ci[1]) || math.IsInf(ci[0], 0) || math.IsInf(ci[1], 0) {
 		return "–"
 	}
@@ -36,16 +36,16 @@ func pctInterval(ci [2]float64) string {
 	return strconv.FormatFloat(100*ci[0], 'f', d, 64) + " – " + strconv.FormatFloat(100*ci[1], 'f', d, 64)
 }
 
-// hz writes a frequency in Hz with four significant digits.
-func hz(f float64) string {
+// Hz writes a frequency in Hz with four significant digits.
+func Hz(f float64) string {
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return "–"
 	}
 	return strconv.FormatFloat(f, 'f', decimals(f, 4), 64)
 }
 
-// hzInterval writes a frequency interval with the digits its width needs.
-func hzInterval(ci [2]float64) string {
+// HzInterval writes a frequency interval with the digits its width needs.
+func HzInterval(ci [2]float64) string {
 	if math.IsNaN(ci[0]) || math.IsNaN(ci[1]) || math.IsInf(ci[0], 0) || math.IsInf(ci[1], 0) {
 		return "–"
 	}

@@ -494,9 +494,9 @@ func TestDayBounds(t *testing.T) {
 // TestFormats: the number formats of the pages.
 func TestFormats(t *testing.T) {
 	for _, c := range []struct{ got, want string }{
-		{pct(0.01234), "1.23"}, {pct(0.000953), "0.0953"}, {pct(0.1234), "12.3"}, {pct(math.NaN()), "–"},
-		{pctInterval([2]float64{0.0098, 0.0125}), "0.98 – 1.25"},
-		{hz(46.5012), "46.50"}, {hz(521.63), "521.6"}, {hzInterval([2]float64{140.92, 141.06}), "140.92 – 141.06"},
+		{Pct(0.01234), "1.23"}, {Pct(0.000953), "0.0953"}, {Pct(0.1234), "12.3"}, {Pct(math.NaN()), "–"},
+		{PctInterval([2]float64{0.0098, 0.0125}), "0.98 – 1.25"},
+		{Hz(46.5012), "46.50"}, {Hz(521.63), "521.6"}, {HzInterval([2]float64{140.92, 141.06}), "140.92 – 141.06"},
 		{num(7.77e-6, 3), "7.77×10⁻⁶"}, {num(6.1, 3), "6.10"}, {num(9.9999e-6, 3), "1.00×10⁻⁵"}, {num(0, 3), "0"},
 		{plural(1, "hit"), "1 hit"}, {plural(3, "hit"), "3 hits"},
 	} {

@@ -68,7 +68,7 @@ func rayleighOf(rs report.RevisionStats, class string, ri int) rayleighView {
 	if math.IsNaN(f.BandHz[0]) {
 		v.Band = "none: the curve misses the scatter of every mode"
 	} else {
-		v.Band = hz(f.BandHz[0]) + " – " + hz(f.BandHz[1]) + " Hz"
+		v.Band = Hz(f.BandHz[0]) + " – " + Hz(f.BandHz[1]) + " Hz"
 	}
 	if f.Constraint != "" {
 		v.Notes = append(v.Notes, f.Constraint)
@@ -77,11 +77,11 @@ func rayleighOf(rs report.RevisionStats, class string, ri int) rayleighView {
 		v.Notes = append(v.Notes, fmt.Sprintf("The modes scatter about the curve more than their uncertainties allow (chi-square %.3g on %d degrees of freedom): the intervals are widened by that factor.", f.Chi2, f.DOF))
 	}
 	for _, m := range f.Modes {
-		row := rayleighRow{Name: m.Label, Freq: hz(m.FrequencyHz), Measured: pct(m.Damping),
-			MeasuredCI: pctInterval([2]float64{m.Damping - 1.96*m.SD, m.Damping + 1.96*m.SD}),
-			Fitted:     pct(m.Fitted), Inside: m.Inside}
+		row := rayleighRow{Name: m.Label, Freq: Hz(m.FrequencyHz), Measured: Pct(m.Damping),
+			MeasuredCI: PctInterval([2]float64{m.Damping - 1.96*m.SD, m.Damping + 1.96*m.SD}),
+			Fitted:     Pct(m.Fitted), Inside: m.Inside}
 		if rep.StiffnessOnly != nil {
-			row.FittedStiff = pct(rep.StiffnessOnly.Curve(m.FrequencyHz))
+			row.FittedStiff = Pct(rep.StiffnessOnly.Curve(m.FrequencyHz))
 		}
 		row.InsideText = "yes"
 		if !m.Inside {
