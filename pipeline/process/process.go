@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 
@@ -45,9 +44,11 @@ func Defaults() Options {
 
 // File reads one hit file and analyses it. An error means the file could
 // not be read or has no usable channel; a spoiled hit is not an error but a
-// Result with verdict "rejected" and its reasons.
+// Result with verdict "rejected" and its reasons. Like every re-read it
+// opens only a regular file within read.DefaultMaxFileSize and stops with
+// ctx (read.ReadRegular).
 func File(ctx context.Context, path string, opt Options) (*pipeline.Result, error) {
-	data, err := os.ReadFile(path)
+	data, err := read.ReadRegular(ctx, path, 0)
 	if err != nil {
 		return nil, &read.Error{File: path, Offset: -1, Problem: "cannot open", Err: err}
 	}
