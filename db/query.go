@@ -18,8 +18,11 @@ import (
 type Filter struct {
 	Prototype, Revision, Bay string
 	Point, Direction         string
-	// ModeLabel keeps hits whose current result has a mode with this label.
-	ModeLabel string
+	// Revisions keeps hits of any of these revisions (beside Revision).
+	Revisions []string
+	// ModeLabels keeps hits whose current result has a mode with one of
+	// these labels.
+	ModeLabels []string
 	// Since and Until bound the hit time: Since <= t < Until. Zero times
 	// leave that side open.
 	Since, Until time.Time
@@ -78,6 +81,15 @@ func (f Filter) where() (string, []any) {
 	}
 	eq("h.prototype", f.Prototype)
 	eq("h.revision", f.Revision)
+	in := func(col string, vs []string) {
+		if len(vs) > 0 {
+			conds = append(conds, col+" IN ("+placeholders(len(vs))+")")
+			for _, v := range vs {
+				args = append(args, v)
+			}
+		}
+	}
+	in("h.revision", f.Revisions)
 	eq("h.bay", f.Bay)
 	eq("h.point", f.Point)
 	eq("h.direction", f.Direction)
@@ -95,9 +107,11 @@ func (f Filter) where() (string, []any) {
 			args = append(args, string(v))
 		}
 	}
-	if f.ModeLabel != "" {
-		conds = append(conds, "EXISTS (SELECT 1 FROM modes m WHERE m.label = ? AND m.result_id = r.id)")
-		args = append(args, f.ModeLabel)
+	if len(f.ModeLabels) > 0 {
+		conds = append(conds, "EXISTS (SELECT 1 FROM modes m WHERE m.label IN ("+placeholders(len(f.ModeLabels))+") AND m.result_id = r.id)")
+		for _, l := range f.ModeLabels {
+			args = append(args, l)
+		}
 	}
 	return " WHERE " + strings.Join(conds, " AND "), args
 }

@@ -390,7 +390,10 @@ func TestHitsFilter(t *testing.T) {
 		{"until", Filter{Until: t0.Add(time.Hour)}, []int{0}},
 		{"window", Filter{Since: t0.Add(30 * time.Minute), Until: t0.Add(150 * time.Minute)}, []int{1, 2}},
 		{"verdicts", Filter{Verdicts: []pipeline.Verdict{pipeline.Accepted, pipeline.Flagged}}, []int{0, 2, 3}},
-		{"label", Filter{ModeLabel: "torsion-1"}, []int{2}},
+		{"revisions", Filter{Revisions: []string{"B", "A"}}, []int{0, 1, 2, 3}},
+		{"revisions and prototype", Filter{Prototype: "P1", Revisions: []string{"B", "Z"}}, []int{2}},
+		{"label", Filter{ModeLabels: []string{"torsion-1"}}, []int{2}},
+		{"labels", Filter{ModeLabels: []string{"nothing", "torsion-1"}}, []int{2}},
 		{"limit", Filter{Limit: 2}, []int{0, 1}},
 		{"none", Filter{Prototype: "P9"}, nil},
 	} {
@@ -410,14 +413,14 @@ func TestHitsFilter(t *testing.T) {
 			t.Errorf("%s: hits %v, want %v", c.name, got, c.want)
 		}
 	}
-	labelled, _ := d.Hits(ctx, Filter{ModeLabel: "torsion-1"})
+	labelled, _ := d.Hits(ctx, Filter{ModeLabels: []string{"torsion-1"}})
 	if len(labelled) == 1 && labelled[0].Result.Modes[1].Label != "torsion-1" {
 		t.Errorf("label not read back: %+v", labelled[0].Result.Modes[1])
 	}
 	if err := d.SetModeLabel(ctx, all[2].ModeIDs[1], ""); err != nil {
 		t.Fatal(err)
 	}
-	if h, _ := d.Hits(ctx, Filter{ModeLabel: "torsion-1"}); len(h) != 0 {
+	if h, _ := d.Hits(ctx, Filter{ModeLabels: []string{"torsion-1"}}); len(h) != 0 {
 		t.Error("cleared label still matches")
 	}
 }

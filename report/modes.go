@@ -63,6 +63,9 @@ type IdentifyOptions struct {
 	// (default DefaultMinShare); at least two hits when there are two or
 	// more.
 	MinShare float64
+	// WithFlagged counts the modes that a doubting flag names too (the
+	// --with-flagged of the history commands).
+	WithFlagged bool
 }
 
 // Observation is one usable mode of one hit: a mode that was not dropped,

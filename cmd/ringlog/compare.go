@@ -4,8 +4,8 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"slices"
 
-	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
 )
 
@@ -22,10 +22,9 @@ type compareJSON struct {
 }
 
 func runCompare(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("compare", "--db PATH --prototype P --revision A --revision B [--json] [--config FILE]", e.stderr)
-	rf := addReportFlags(fs)
-	var revs stringList
-	fs.Var(&revs, "revision", "a revision to compare; give it twice, the first is the reference A")
+	fs := newFlags("compare", "--db PATH --prototype P --revision A --revision B [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] [--json] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("revision").Usage = "a revision to compare; give it twice, the first is the reference A"
 	asJSON := fs.Bool("json", false, "print one JSON object")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
@@ -34,6 +33,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
+	revs := q.revisions
 	if len(revs) != 2 {
 		return usagef("give --revision exactly twice (reference first), got %d", len(revs))
 	}
@@ -41,12 +41,12 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	if a == b {
 		return usagef("--revision %s given twice: compare two different revisions", a)
 	}
-	src, err := rf.open(ctx)
+	src, err := q.open(ctx)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	hits, err := src.hits(ctx, db.Filter{}, a, b)
+	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
 	}
@@ -65,7 +65,10 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	// One identification over both revisions: a label names the same
 	// mode in each.
 	id := rpt.Identify(hits, src.identify)
-	cs := rpt.Compare(id, a, b)
+	if !knownLabels(e, id, q.modes) {
+		return nil
+	}
+	cs := keepCompared(rpt.Compare(id, a, b), q.modes)
 	if *asJSON {
 		if cs == nil {
 			cs = []rpt.ModeComparison{}
@@ -102,4 +105,19 @@ func pvalue(p float64) string {
 	default:
 		return fmt.Sprintf("p = %.3f", p)
 	}
+}
+
+// keepCompared keeps the comparisons of the modes labelled one of labels
+// (all of them when labels is empty).
+func keepCompared(cs []rpt.ModeComparison, labels []string) []rpt.ModeComparison {
+	if len(labels) == 0 {
+		return cs
+	}
+	var keep []rpt.ModeComparison
+	for _, c := range cs {
+		if slices.Contains(labels, c.Label) {
+			keep = append(keep, c)
+		}
+	}
+	return keep
 }

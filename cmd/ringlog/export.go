@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
 )
 
@@ -14,9 +13,9 @@ func init() {
 }
 
 func runExport(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("export", "--db PATH --prototype P [--revision R] --format csv|json [--config FILE]", e.stderr)
-	rf := addReportFlags(fs)
-	revision := fs.String("revision", "", "only this revision (default: every revision)")
+	fs := newFlags("export", "--db PATH --prototype P [--revision R] [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] --format csv|json [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision)"
 	format := fs.String("format", "", "csv (one table, '# ' comment header) or json (one object per revision per line)")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
@@ -32,23 +31,28 @@ func runExport(ctx context.Context, e *env, args []string) error {
 	default:
 		return usagef("--format %q: use csv or json", *format)
 	}
-	src, err := rf.open(ctx)
+	src, err := q.open(ctx)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	hits, err := src.hits(ctx, db.Filter{Revision: *revision})
+	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
 	}
 	if len(hits) == 0 {
-		noHits(e.stderr, src.prototype, *revision)
+		noHits(e.stderr, src.prototype, q.revisions...)
 		return nil
 	}
 	id := rpt.Identify(hits, src.identify)
+	if !knownLabels(e, id, q.modes) {
+		return nil
+	}
+	all := rpt.Stats(id)
+	keepModes(all, q.modes)
 	opt := rpt.ExportOptions{Tool: versionString(), GeneratedAt: time.Now().UTC().Truncate(time.Second)}
 	var exs []rpt.Export
-	for _, rs := range rpt.Stats(id) {
+	for _, rs := range all {
 		ex := rpt.BuildExport(rs, opt)
 		if ex.RayleighNote != "" {
 			fmt.Fprintf(e.stderr, "ringlog export: revision %s: %s\n", revLabel(rs.Revision), ex.RayleighNote)

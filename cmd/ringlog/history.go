@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
 	"fmt"
 	"io/fs"
 	"os"
@@ -17,49 +18,25 @@ func init() {
 	register(command{name: "history", summary: "list the recorded hits with their verdicts and modes", run: runHistory})
 }
 
-// filterFlags are the hit filters shared by history and reanalyze.
-type filterFlags struct {
-	prototype, revision, bay, mode, since, until, verdict *string
+// addVerdictFlag declares --verdict of history and reanalyze.
+func addVerdictFlag(fs *flag.FlagSet) *string {
+	return fs.String("verdict", "", "only these verdicts, comma separated (accepted,flagged,rejected)")
 }
 
-func addFilterFlags(fl interface {
-	String(name, value, usage string) *string
-}) *filterFlags {
-	return &filterFlags{
-		prototype: fl.String("prototype", "", "only this prototype"),
-		revision:  fl.String("revision", "", "only this revision"),
-		bay:       fl.String("bay", "", "only this test bay"),
-		mode:      fl.String("mode", "", "only hits with a mode of this label"),
-		since:     fl.String("since", "", "only hits at or after this date (YYYY-MM-DD or RFC 3339)"),
-		until:     fl.String("until", "", "only hits before this date (YYYY-MM-DD or RFC 3339)"),
-		verdict:   fl.String("verdict", "", "only these verdicts, comma separated (accepted,flagged,rejected)"),
+// verdictFilter adds the verdicts of --verdict to f.
+func verdictFilter(f *db.Filter, verdicts string) error {
+	if verdicts == "" {
+		return nil
 	}
-}
-
-func (f *filterFlags) filter() (db.Filter, error) {
-	out := db.Filter{Prototype: *f.prototype, Revision: *f.revision, Bay: *f.bay, ModeLabel: *f.mode}
-	var ok bool
-	if *f.since != "" {
-		if out.Since, ok = parseTime(*f.since); !ok {
-			return out, usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.since)
+	for _, v := range strings.Split(verdicts, ",") {
+		switch vv := pipeline.Verdict(strings.TrimSpace(v)); vv {
+		case pipeline.Accepted, pipeline.Flagged, pipeline.Rejected:
+			f.Verdicts = append(f.Verdicts, vv)
+		default:
+			return usagef("--verdict %q: use accepted, flagged or rejected", v)
 		}
 	}
-	if *f.until != "" {
-		if out.Until, ok = parseTime(*f.until); !ok {
-			return out, usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", *f.until)
-		}
-	}
-	if *f.verdict != "" {
-		for _, v := range strings.Split(*f.verdict, ",") {
-			switch vv := pipeline.Verdict(strings.TrimSpace(v)); vv {
-			case pipeline.Accepted, pipeline.Flagged, pipeline.Rejected:
-				out.Verdicts = append(out.Verdicts, vv)
-			default:
-				return out, usagef("--verdict %q: use accepted, flagged or rejected", v)
-			}
-		}
-	}
-	return out, nil
+	return nil
 }
 
 // openExisting opens a database that must already exist, read-only:
@@ -101,12 +78,11 @@ type hitJSON struct {
 }
 
 func runHistory(ctx context.Context, e *env, args []string) error {
-	fl := newFlags("history", "--db PATH [--prototype P] [--revision R] [--mode LABEL] [--since DATE] [--json]", e.stderr)
-	dbPath := fl.String("db", "", "history database")
-	cfgPath := fl.String("config", "", "TOML configuration naming the database")
+	fl := newFlags("history", "--db PATH [--prototype P] [--revision R] [--bay B] [--mode LABEL] [--since DATE] [--until DATE] [--verdict V,...] [--json]", e.stderr)
+	q := addQueryFlags(fl)
+	fl.Lookup("mode").Usage = "only hits with a mode stored under this label; repeat it for several"
+	verdict := addVerdictFlag(fl)
 	asJSON := fl.Bool("json", false, "print one JSON object per hit, one per line")
-	synthetic := fl.Bool("synthetic", false, "list the synthetic hits made by synth-history instead of the real ones")
-	ff := addFilterFlags(fl)
 	rest, err := parseInterleaved(fl, args)
 	if err != nil {
 		return err
@@ -114,12 +90,14 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
-	f, err := ff.filter()
+	f, err := q.storeFilter()
 	if err != nil {
 		return err
 	}
-	f.Synthetic = *synthetic
-	path, err := dbFromFlags(*dbPath, *cfgPath)
+	if err := verdictFilter(&f, *verdict); err != nil {
+		return err
+	}
+	path, err := q.database()
 	if err != nil {
 		return err
 	}

@@ -9,26 +9,136 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
 	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
+	"github.com/ringlog/ringlog/report/page"
 )
 
-// reportFlags are the flags every history report has.
-type reportFlags struct {
-	dbPath, cfgPath, prototype *string
-	synthetic                  *bool
+// queryFlags is the one filter of the history commands (history, stats,
+// compare, trend, rayleigh, export, report daily, report compare and,
+// without the counting flags, reanalyze), declared here once, with the
+// database flags --db and --config.
+type queryFlags struct {
+	dbPath, cfgPath string
+	prototype       string
+	// revisions holds every --revision given: one or more revisions to
+	// keep; compare and report compare want exactly two (reference first).
+	revisions stringList
+	bay       string
+	// modes holds every --mode given: mode labels. The reports keep only
+	// the modes so labelled; history, reanalyze and the report pages keep
+	// the hits with a mode stored under one of these labels.
+	modes        stringList
+	since, until string
+	// withFlagged counts the modes that a flag doubts (see report.Identify).
+	withFlagged bool
+	synthetic   bool
+	cfg         *Config // loaded by config
 }
 
-func addReportFlags(fs *flag.FlagSet) *reportFlags {
-	return &reportFlags{
-		dbPath:    fs.String("db", "", "history database (required unless --config names one)"),
-		cfgPath:   fs.String("config", "", "TOML configuration: the database and the expected modes of the prototype ([[prototype]] entries)"),
-		prototype: fs.String("prototype", "", "the prototype to report on (required)"),
-		synthetic: fs.Bool("synthetic", false, "report on the synthetic hits made by synth-history instead of the real ones"),
+// queryOption leaves a flag out of a command's set.
+type queryOption int
+
+// withoutCounting leaves out --with-flagged and --synthetic for a command
+// that selects hits but counts nothing (reanalyze).
+const withoutCounting queryOption = 1
+
+// addQueryFlags declares the shared filter and database flags on fs.
+func addQueryFlags(fs *flag.FlagSet, opts ...queryOption) *queryFlags {
+	q := &queryFlags{}
+	fs.StringVar(&q.dbPath, "db", "", "history database (required unless --config names one)")
+	fs.StringVar(&q.cfgPath, "config", "", "TOML configuration: the database and the expected modes of each prototype ([[prototype]] entries)")
+	fs.StringVar(&q.prototype, "prototype", "", "only this prototype")
+	fs.Var(&q.revisions, "revision", "only this revision; repeat it for several")
+	fs.StringVar(&q.bay, "bay", "", "only this test bay")
+	fs.Var(&q.modes, "mode", "only the mode with this label; repeat it for several")
+	fs.StringVar(&q.since, "since", "", "only hits at or after this date (YYYY-MM-DD or RFC 3339)")
+	fs.StringVar(&q.until, "until", "", "only hits before this date (YYYY-MM-DD or RFC 3339)")
+	if !slices.Contains(opts, withoutCounting) {
+		fs.BoolVar(&q.withFlagged, "with-flagged", false, "also count the modes a flag doubts (by default a mode named by a doubting flag is left out)")
+		fs.BoolVar(&q.synthetic, "synthetic", false, "the synthetic hits made by synth-history instead of the real ones")
 	}
+	return q
+}
+
+// filter returns the database filter of the flags. The mode labels are
+// not in it: each command applies them (see queryFlags.modes).
+func (q *queryFlags) filter() (db.Filter, error) {
+	f := db.Filter{Prototype: q.prototype, Bay: q.bay, Synthetic: q.synthetic}
+	if len(q.revisions) == 1 {
+		f.Revision = q.revisions[0]
+	} else {
+		f.Revisions = slices.Clone(q.revisions)
+	}
+	var ok bool
+	if q.since != "" {
+		if f.Since, ok = parseTime(q.since); !ok {
+			return f, usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", q.since)
+		}
+	}
+	if q.until != "" {
+		if f.Until, ok = parseTime(q.until); !ok {
+			return f, usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", q.until)
+		}
+	}
+	return f, nil
+}
+
+// config reads the configuration named by --config once; nil without it.
+func (q *queryFlags) config() (*Config, error) {
+	if q.cfg != nil || q.cfgPath == "" {
+		return q.cfg, nil
+	}
+	cfg, err := loadConfig(q.cfgPath)
+	if err != nil {
+		return nil, err
+	}
+	q.cfg = cfg
+	return cfg, nil
+}
+
+// database returns the database path: --db, else the configuration's.
+func (q *queryFlags) database() (string, error) {
+	if q.dbPath != "" {
+		return q.dbPath, nil
+	}
+	cfg, err := q.config()
+	if err != nil {
+		return "", err
+	}
+	if cfg == nil {
+		return "", usagef("--db PATH or --config FILE is required")
+	}
+	if cfg.Database == "" {
+		return "", fmt.Errorf("config %s: database is not set (or give --db PATH)", q.cfgPath)
+	}
+	return cfg.Database, nil
+}
+
+// identifyOptions returns how report.Identify counts for prototype: the
+// configuration's expected modes and --with-flagged.
+func (q *queryFlags) identifyOptions(prototype string) (rpt.IdentifyOptions, error) {
+	opt := rpt.IdentifyOptions{WithFlagged: q.withFlagged}
+	cfg, err := q.config()
+	if err != nil {
+		return opt, err
+	}
+	if cfg != nil {
+		opt.Expected = expectedModes(cfg, prototype)
+	}
+	return opt, nil
+}
+
+// storeFilter is the database filter of the flags with the mode labels as
+// a filter on the stored labels (history, reanalyze, the report pages).
+func (q *queryFlags) storeFilter() (db.Filter, error) {
+	f, err := q.filter()
+	f.ModeLabels = slices.Clone(q.modes)
+	return f, err
 }
 
 // reportSource is an opened history and what the configuration says about
@@ -36,40 +146,33 @@ func addReportFlags(fs *flag.FlagSet) *reportFlags {
 type reportSource struct {
 	store     *db.DB
 	prototype string
-	synthetic bool
+	filter    db.Filter
 	identify  rpt.IdentifyOptions
 }
 
 // open checks the flags, reads the configuration (when given) and opens
-// the database, which must exist.
-func (rf *reportFlags) open(ctx context.Context) (*reportSource, error) {
-	if *rf.prototype == "" {
+// the database, which must exist, read-only. The reports need a prototype.
+func (q *queryFlags) open(ctx context.Context) (*reportSource, error) {
+	if q.prototype == "" {
 		return nil, usagef("--prototype P is required")
 	}
-	path := *rf.dbPath
-	src := &reportSource{prototype: *rf.prototype, synthetic: *rf.synthetic}
-	if *rf.cfgPath != "" {
-		cfg, err := loadConfig(*rf.cfgPath)
-		if err != nil {
-			return nil, err
-		}
-		if path == "" {
-			if cfg.Database == "" {
-				return nil, fmt.Errorf("config %s: database is not set (or give --db PATH)", *rf.cfgPath)
-			}
-			path = cfg.Database
-		}
-		src.identify.Expected = expectedModes(cfg, *rf.prototype)
+	f, err := q.filter()
+	if err != nil {
+		return nil, err
 	}
-	if path == "" {
-		return nil, usagef("--db PATH or --config FILE is required")
+	path, err := q.database()
+	if err != nil {
+		return nil, err
+	}
+	iopt, err := q.identifyOptions(q.prototype)
+	if err != nil {
+		return nil, err
 	}
 	store, err := openExisting(ctx, path)
 	if err != nil {
 		return nil, err
 	}
-	src.store = store
-	return src, nil
+	return &reportSource{store: store, prototype: q.prototype, filter: f, identify: iopt}, nil
 }
 
 func (s *reportSource) Close() error { return s.store.Close() }
@@ -89,37 +192,36 @@ func expectedModes(cfg *Config, prototype string) []rpt.Expected {
 	return out
 }
 
-// hits returns the hits of the prototype that f (whose Prototype is set
-// here) selects; with revisions, only those revisions.
-func (s *reportSource) hits(ctx context.Context, f db.Filter, revisions ...string) ([]db.Hit, error) {
-	f.Prototype = s.prototype
-	f.Synthetic = s.synthetic
+// hits returns the hits the flags select, with what the statistics read.
+func (s *reportSource) hits(ctx context.Context) ([]db.Hit, error) {
+	f := s.filter
 	f.ForStats = true
-	hits, err := s.store.Hits(ctx, f)
-	if err != nil {
-		return nil, err
+	return s.store.Hits(ctx, f)
+}
+
+// keepModes keeps the statistics of the modes labelled one of labels (all
+// of them when labels is empty).
+func keepModes(all []rpt.RevisionStats, labels []string) {
+	if len(labels) == 0 {
+		return
 	}
-	if len(revisions) == 0 {
-		return hits, nil
-	}
-	keep := hits[:0]
-	for _, h := range hits {
-		for _, r := range revisions {
-			if h.Meta.Revision == r {
-				keep = append(keep, h)
-				break
+	for i := range all {
+		var keep []rpt.ModeStat
+		for _, m := range all[i].Modes {
+			if slices.Contains(labels, m.Label) {
+				keep = append(keep, m)
 			}
 		}
+		all[i].Modes = keep
 	}
-	return keep, nil
 }
 
 // noHits tells the user that the filters matched nothing (exit status 0,
 // as for history).
-func noHits(w io.Writer, prototype, revision string) {
+func noHits(w io.Writer, prototype string, revisions ...string) {
 	what := "prototype " + prototype
-	if revision != "" {
-		what += ", revision " + revision
+	if len(revisions) > 0 {
+		what += ", revision " + strings.Join(revisions, ", ")
 	}
 	fmt.Fprintf(w, "no hits match these filters (%s)\n", what)
 }
@@ -144,6 +246,18 @@ func checkLabels(id *rpt.Identified, labels []string) error {
 		}
 	}
 	return nil
+}
+
+// knownLabels tells the user (exit status 0) when a label is not one of
+// id's modes and returns false then.
+func knownLabels(e *env, id *rpt.Identified, labels []string) bool {
+	for _, l := range labels {
+		if _, ok := id.Label(l); !ok {
+			fmt.Fprintf(e.stderr, "no mode labelled %q in these hits; the modes are: %s\n", l, labelNames(id))
+			return false
+		}
+	}
+	return true
 }
 
 // splitList splits a comma-separated flag value, dropping empty items.
@@ -200,4 +314,59 @@ func revLabel(r string) string {
 		return "(none)"
 	}
 	return r
+}
+
+// filteredSource narrows every query a report page makes to the shared
+// filter: the page's own bounds and the filter's both hold.
+type filteredSource struct {
+	page.Source
+	f db.Filter
+}
+
+// narrow returns q within s.f, and false when nothing can match both.
+func (s filteredSource) narrow(q db.Filter) (db.Filter, bool) {
+	for _, p := range []struct {
+		dst *string
+		src string
+	}{
+		{&q.Prototype, s.f.Prototype}, {&q.Revision, s.f.Revision}, {&q.Bay, s.f.Bay},
+	} {
+		switch {
+		case p.src == "":
+		case *p.dst == "":
+			*p.dst = p.src
+		case *p.dst != p.src:
+			return q, false
+		}
+	}
+	if len(q.Revisions) == 0 {
+		q.Revisions = s.f.Revisions
+	}
+	if len(q.ModeLabels) == 0 {
+		q.ModeLabels = s.f.ModeLabels
+	}
+	if s.f.Since.After(q.Since) {
+		q.Since = s.f.Since
+	}
+	if !s.f.Until.IsZero() && (q.Until.IsZero() || s.f.Until.Before(q.Until)) {
+		q.Until = s.f.Until
+	}
+	q.Synthetic = s.f.Synthetic
+	return q, true
+}
+
+func (s filteredSource) Hits(ctx context.Context, f db.Filter) ([]db.Hit, error) {
+	f, ok := s.narrow(f)
+	if !ok {
+		return nil, nil
+	}
+	return s.Source.Hits(ctx, f)
+}
+
+func (s filteredSource) StoredFiles(ctx context.Context, f db.Filter) ([]db.StoredFile, error) {
+	f, ok := s.narrow(f)
+	if !ok {
+		return nil, nil
+	}
+	return s.Source.StoredFiles(ctx, f)
 }

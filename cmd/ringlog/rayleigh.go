@@ -4,8 +4,8 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"slices"
 
-	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
 )
 
@@ -14,10 +14,11 @@ func init() {
 }
 
 func runRayleigh(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("rayleigh", "--db PATH --prototype P [--revision R] [--modes L1,L2,...] [--stiffness-only] [--json] [--config FILE]", e.stderr)
-	rf := addReportFlags(fs)
-	revision := fs.String("revision", "", "only this revision (default: every revision, one fit each)")
-	modes := fs.String("modes", "", "comma-separated labels of the modes to fit (default: every labelled mode)")
+	fs := newFlags("rayleigh", "--db PATH --prototype P [--revision R] [--bay B] [--mode L]... [--modes L1,L2,...] [--since DATE] [--until DATE] [--with-flagged] [--stiffness-only] [--json] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision, one fit each)"
+	fs.Lookup("mode").Usage = "the label of a mode to fit; repeat it for several (default: every labelled mode)"
+	modes := fs.String("modes", "", "comma-separated labels of the modes to fit, the same as --mode given for each")
 	stiff := fs.Bool("stiffness-only", false, "fit beta alone (alpha = 0): no damping of rigid-body motion")
 	asJSON := fs.Bool("json", false, "print one JSON object per revision, one per line")
 	rest, err := parseInterleaved(fs, args)
@@ -27,18 +28,18 @@ func runRayleigh(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
-	labels := splitList(*modes)
-	src, err := rf.open(ctx)
+	labels := append(slices.Clone(q.modes), splitList(*modes)...)
+	src, err := q.open(ctx)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	hits, err := src.hits(ctx, db.Filter{Revision: *revision})
+	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
 	}
 	if len(hits) == 0 {
-		noHits(e.stderr, src.prototype, *revision)
+		noHits(e.stderr, src.prototype, q.revisions...)
 		return nil
 	}
 	id := rpt.Identify(hits, src.identify)

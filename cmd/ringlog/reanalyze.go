@@ -14,9 +14,10 @@ func init() {
 
 func runReanalyze(ctx context.Context, e *env, args []string) error {
 	fl := newFlags("reanalyze", "--db PATH [--config FILE] [filters]", e.stderr)
-	dbPath := fl.String("db", "", "history database")
-	cfgPath := fl.String("config", "", "TOML configuration for the analysis settings (default: built-in defaults)")
-	ff := addFilterFlags(fl)
+	q := addQueryFlags(fl, withoutCounting)
+	fl.Lookup("config").Usage = "TOML configuration: the database and the analysis settings (default: built-in defaults)"
+	fl.Lookup("mode").Usage = "only hits with a mode stored under this label; repeat it for several"
+	verdict := addVerdictFlag(fl)
 	rest, err := parseInterleaved(fl, args)
 	if err != nil {
 		return err
@@ -24,22 +25,23 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
-	f, err := ff.filter()
+	f, err := q.storeFilter()
 	if err != nil {
 		return err
 	}
-	cfg := defaultConfig()
-	if *cfgPath != "" {
-		if cfg, err = loadConfig(*cfgPath); err != nil {
-			return err
-		}
+	if err := verdictFilter(&f, *verdict); err != nil {
+		return err
 	}
-	path := *dbPath
-	if path == "" {
-		path = cfg.Database
+	cfg, err := q.config()
+	if err != nil {
+		return err
 	}
-	if path == "" {
-		return usagef("--db PATH is required")
+	if cfg == nil {
+		cfg = defaultConfig()
+	}
+	path, err := q.database()
+	if err != nil {
+		return err
 	}
 	store, err := openExistingWritable(ctx, path)
 	if err != nil {

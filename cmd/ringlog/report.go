@@ -46,27 +46,14 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	return usagef("unknown page %q: use 'report daily' or 'report compare'", args[0])
 }
 
-// reportDB returns the database path from --db or the configuration.
-func reportDB(dbPath string, cfg *Config) (string, error) {
-	if dbPath != "" {
-		return dbPath, nil
-	}
-	if cfg != nil && cfg.Database != "" {
-		return cfg.Database, nil
-	}
-	if cfg != nil {
-		return "", fmt.Errorf("config %s: database is not set (or give --db PATH)", cfg.path)
-	}
-	return "", usagef("--db PATH or --config FILE is required")
-}
-
 func runReportDaily(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("report daily", "--db PATH [--day YYYY-MM-DD] [--out FILE] [--config FILE]", e.stderr)
-	dbPath := fs.String("db", "", "history database (required unless --config names one)")
+	fs := newFlags("report daily", "--db PATH [--day YYYY-MM-DD] [--prototype P] [--revision R] [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] [--out FILE] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("config").Usage = "TOML configuration: the database, the expected modes of each prototype, the report folder and how files are read"
+	fs.Lookup("mode").Usage = "only hits with a mode stored under this label; repeat it for several"
+	fs.Lookup("since").Usage = "leave out hits before this date, also from the campaign plots (YYYY-MM-DD or RFC 3339)"
 	dayFlag := fs.String("day", "", "the day to report on, YYYY-MM-DD in local time (default: today)")
 	out := fs.String("out", "", "the page to write (default: ringlog-daily-YYYY-MM-DD.html in the configured report folder, or in the current folder)")
-	cfgPath := fs.String("config", "", "TOML configuration: the database, the expected modes of each prototype, the report folder and how files are read")
-	synthetic := fs.Bool("synthetic", false, "report on the synthetic hits made by synth-history instead of the real ones")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -80,13 +67,15 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 			return usagef("--day %q: write the day as YYYY-MM-DD", *dayFlag)
 		}
 	}
-	var cfg *Config
-	if *cfgPath != "" {
-		if cfg, err = loadConfig(*cfgPath); err != nil {
-			return err
-		}
+	f, err := q.storeFilter()
+	if err != nil {
+		return err
 	}
-	path, err := reportDB(*dbPath, cfg)
+	cfg, err := q.config()
+	if err != nil {
+		return err
+	}
+	path, err := q.database()
 	if err != nil {
 		return err
 	}
@@ -102,7 +91,9 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer store.Close()
-	sum, err := writeDaily(ctx, pageSource(store, *synthetic), dailyOptions(cfg, day, path), target)
+	opt := dailyOptions(cfg, day, path)
+	opt.WithFlagged = q.withFlagged
+	sum, err := writeDaily(ctx, filteredSource{store, f}, opt, target)
 	if err != nil {
 		return err
 	}
@@ -115,14 +106,12 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 }
 
 func runReportCompare(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("report compare", "--db PATH --prototype P --revision A --revision B [--out FILE] [--config FILE]", e.stderr)
-	dbPath := fs.String("db", "", "history database (required unless --config names one)")
-	proto := fs.String("prototype", "", "the prototype (required)")
-	var revs stringList
-	fs.Var(&revs, "revision", "a revision; give it twice, the first is the reference A")
+	fs := newFlags("report compare", "--db PATH --prototype P --revision A --revision B [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] [--out FILE] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("prototype").Usage = "the prototype (required)"
+	fs.Lookup("revision").Usage = "a revision; give it twice, the first is the reference A"
+	fs.Lookup("mode").Usage = "only hits with a mode stored under this label; repeat it for several"
 	out := fs.String("out", "", "the page to write (default: ringlog-compare-P-A-B.html in the current folder)")
-	cfgPath := fs.String("config", "", "TOML configuration: the database and the expected modes of the prototype")
-	synthetic := fs.Bool("synthetic", false, "compare the synthetic hits made by synth-history instead of the real ones")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -130,6 +119,7 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
+	proto, revs := &q.prototype, q.revisions
 	if *proto == "" {
 		return usagef("--prototype P is required")
 	}
@@ -139,13 +129,15 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 	if revs[0] == revs[1] {
 		return usagef("--revision %s given twice: compare two different revisions", revs[0])
 	}
-	var cfg *Config
-	if *cfgPath != "" {
-		if cfg, err = loadConfig(*cfgPath); err != nil {
-			return err
-		}
+	f, err := q.storeFilter()
+	if err != nil {
+		return err
 	}
-	path, err := reportDB(*dbPath, cfg)
+	cfg, err := q.config()
+	if err != nil {
+		return err
+	}
+	path, err := q.database()
 	if err != nil {
 		return err
 	}
@@ -159,12 +151,12 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 	}
 	defer store.Close()
 	opt := page.CompareOptions{Prototype: *proto, RevisionA: revs[0], RevisionB: revs[1],
-		Generator: versionString(), Database: path}
+		Generator: versionString(), Database: path, WithFlagged: q.withFlagged}
 	if cfg != nil {
 		opt.Expected = dailyOptions(cfg, time.Now(), path).Expected(*proto)
 	}
 	var buf strings.Builder
-	sum, err := page.Compare(ctx, &buf, pageSource(store, *synthetic), opt)
+	sum, err := page.Compare(ctx, &buf, filteredSource{store, f}, opt)
 	if errors.Is(err, page.ErrNoHits) {
 		return fmt.Errorf("%w (no page written)", err)
 	}

@@ -125,10 +125,10 @@ func TestReportsEndToEnd(t *testing.T) {
 	t.Logf("revision A: modes %.2f Hz, damping ratios %.4f", freqs, zetas)
 
 	for _, c := range []struct {
-		rev   string
-		files []string
-	}{{"A", fa}, {"B", fb}} {
-		args := append([]string{"ingest", "--db", dbPath, "--prototype", "frame", "--revision", c.rev, "--quiet"}, c.files...)
+		rev, bay string
+		files    []string
+	}{{"A", "1", fa}, {"B", "2", fb}} {
+		args := append([]string{"ingest", "--db", dbPath, "--prototype", "frame", "--revision", c.rev, "--bay", c.bay, "--quiet"}, c.files...)
 		if out, errOut, code := cli(t, args...); code != 0 {
 			t.Fatalf("ingest: exit %d: %s %s", code, out, errOut)
 		}
@@ -239,6 +239,34 @@ func TestReportsEndToEnd(t *testing.T) {
 	rows, err := csv.NewReader(strings.NewReader(out)).ReadAll()
 	if code != 0 || err != nil || len(rows) != 3 || rows[1][2] != "m2" || rows[0][6] != "damping_ratio_mean" {
 		t.Errorf("stats --mode m2 --csv: exit %d, %v:\n%s", code, err, out)
+	}
+	// The shared filter: two --mode and two --revision keep both; --bay
+	// (every hit of revision A is at bay 1, of B at bay 2) and --since
+	// select hits.
+	out, _, code = cli(t, "stats", "--db", dbPath, "--prototype", "frame", "--mode", "m1", "--mode", "m3", "--revision", "A", "--revision", "B", "--csv")
+	rows, err = csv.NewReader(strings.NewReader(out)).ReadAll()
+	if code != 0 || err != nil || len(rows) != 5 || rows[1][1] != "A" || rows[1][2] != "m1" || rows[2][2] != "m3" || rows[4][1] != "B" {
+		t.Errorf("stats with two --mode and two --revision: exit %d, %v:\n%s", code, err, out)
+	}
+	for _, c := range []struct {
+		args []string
+		revs string // revisions of the rows, in order
+	}{
+		{[]string{"--bay", "2"}, "BBB"},
+		{[]string{"--since", start.Add(20 * 24 * time.Hour).Format(time.RFC3339)}, "BBB"},
+		{[]string{"--until", start.Add(20 * 24 * time.Hour).Format(time.RFC3339)}, "AAA"},
+		{[]string{"--bay", "1", "--revision", "B"}, ""},
+	} {
+		args := append([]string{"stats", "--db", dbPath, "--prototype", "frame", "--csv"}, c.args...)
+		out, errOut, code := cli(t, args...)
+		rows, _ := csv.NewReader(strings.NewReader(out)).ReadAll()
+		got := ""
+		for _, r := range rows[min(1, len(rows)):] {
+			got += r[1]
+		}
+		if code != 0 || got != c.revs || (c.revs == "" && !strings.Contains(errOut, "no hits match")) {
+			t.Errorf("stats %v: exit %d, revisions %q, want %q\n%s%s", c.args, code, got, c.revs, out, errOut)
+		}
 	}
 
 	// compare: B is damped more than A; the ratio of geometric means

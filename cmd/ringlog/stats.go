@@ -8,7 +8,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
 )
 
@@ -17,12 +16,9 @@ func init() {
 }
 
 func runStats(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("stats", "--db PATH --prototype P [--revision R] [--mode L] [--since DATE] [--until DATE] [--json|--csv] [--config FILE]", e.stderr)
-	rf := addReportFlags(fs)
-	revision := fs.String("revision", "", "only this revision (default: every revision, one block each)")
-	modeL := fs.String("mode", "", "only the mode with this label")
-	since := fs.String("since", "", "only hits at or after this date (YYYY-MM-DD or RFC 3339)")
-	until := fs.String("until", "", "only hits before this date (YYYY-MM-DD or RFC 3339)")
+	fs := newFlags("stats", "--db PATH --prototype P [--revision R] [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] [--json|--csv] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision, one block each)"
 	asJSON := fs.Bool("json", false, "print one JSON object per revision, one per line")
 	asCSV := fs.Bool("csv", false, "print one CSV row per revision and mode")
 	rest, err := parseInterleaved(fs, args)
@@ -35,50 +31,25 @@ func runStats(ctx context.Context, e *env, args []string) error {
 	if *asJSON && *asCSV {
 		return usagef("--json and --csv exclude each other")
 	}
-	f := db.Filter{Revision: *revision}
-	var ok bool
-	if *since != "" {
-		if f.Since, ok = parseTime(*since); !ok {
-			return usagef("--since %q: write a date as YYYY-MM-DD or an RFC 3339 time", *since)
-		}
-	}
-	if *until != "" {
-		if f.Until, ok = parseTime(*until); !ok {
-			return usagef("--until %q: write a date as YYYY-MM-DD or an RFC 3339 time", *until)
-		}
-	}
-	src, err := rf.open(ctx)
+	src, err := q.open(ctx)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	hits, err := src.hits(ctx, f)
+	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
 	}
 	if len(hits) == 0 {
-		noHits(e.stderr, src.prototype, *revision)
+		noHits(e.stderr, src.prototype, q.revisions...)
 		return nil
 	}
 	id := rpt.Identify(hits, src.identify)
-	if *modeL != "" {
-		if _, ok := id.Label(*modeL); !ok {
-			fmt.Fprintf(e.stderr, "no mode labelled %q in these hits; the modes are: %s\n", *modeL, labelNames(id))
-			return nil
-		}
+	if !knownLabels(e, id, q.modes) {
+		return nil
 	}
 	all := rpt.Stats(id)
-	if *modeL != "" {
-		for i := range all {
-			var keep []rpt.ModeStat
-			for _, m := range all[i].Modes {
-				if m.Label == *modeL {
-					keep = append(keep, m)
-				}
-			}
-			all[i].Modes = keep
-		}
-	}
+	keepModes(all, q.modes)
 	addLevelTables(all, id, hits)
 	switch {
 	case *asJSON:

@@ -6,7 +6,6 @@ import (
 	"time"
 
 	"github.com/ringlog/ringlog/db"
-	"github.com/ringlog/ringlog/report/page"
 )
 
 func init() {
@@ -74,26 +73,4 @@ func runSynthHistory(ctx context.Context, e *env, args []string) error {
 	fmt.Fprintf(e.stdout, "they are not measurements: the history commands read them only with --synthetic, e.g.\n  ringlog stats --db %s --prototype %s --synthetic\n",
 		*dbPath, *proto)
 	return nil
-}
-
-// syntheticSource hands the page generators the synthetic hits instead of
-// the real ones ('report daily --synthetic').
-type syntheticSource struct{ page.Source }
-
-func (s syntheticSource) Hits(ctx context.Context, f db.Filter) ([]db.Hit, error) {
-	f.Synthetic = true
-	return s.Source.Hits(ctx, f)
-}
-
-func (s syntheticSource) StoredFiles(ctx context.Context, f db.Filter) ([]db.StoredFile, error) {
-	f.Synthetic = true
-	return s.Source.StoredFiles(ctx, f)
-}
-
-// pageSource is store, or its synthetic hits when synthetic is set.
-func pageSource(store page.Source, synthetic bool) page.Source {
-	if synthetic {
-		return syntheticSource{store}
-	}
-	return store
 }

@@ -4,8 +4,8 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"slices"
 
-	"github.com/ringlog/ringlog/db"
 	rpt "github.com/ringlog/ringlog/report"
 )
 
@@ -14,10 +14,9 @@ func init() {
 }
 
 func runTrend(ctx context.Context, e *env, args []string) error {
-	fs := newFlags("trend", "--db PATH --prototype P [--revision R] [--mode L] [--json] [--config FILE]", e.stderr)
-	rf := addReportFlags(fs)
-	revision := fs.String("revision", "", "only this revision (default: every revision, one block each)")
-	modeL := fs.String("mode", "", "only the mode with this label")
+	fs := newFlags("trend", "--db PATH --prototype P [--revision R] [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] [--json] [--config FILE]", e.stderr)
+	q := addQueryFlags(fs)
+	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision, one block each)"
 	asJSON := fs.Bool("json", false, "print one JSON object per revision, one per line")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
@@ -26,32 +25,29 @@ func runTrend(ctx context.Context, e *env, args []string) error {
 	if len(rest) > 0 {
 		return usagef("unexpected argument %q", rest[0])
 	}
-	src, err := rf.open(ctx)
+	src, err := q.open(ctx)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	hits, err := src.hits(ctx, db.Filter{Revision: *revision})
+	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
 	}
 	if len(hits) == 0 {
-		noHits(e.stderr, src.prototype, *revision)
+		noHits(e.stderr, src.prototype, q.revisions...)
 		return nil
 	}
 	id := rpt.Identify(hits, src.identify)
-	if *modeL != "" {
-		if _, ok := id.Label(*modeL); !ok {
-			fmt.Fprintf(e.stderr, "no mode labelled %q in these hits; the modes are: %s\n", *modeL, labelNames(id))
-			return nil
-		}
+	if !knownLabels(e, id, q.modes) {
+		return nil
 	}
 	for _, rt := range rpt.Trends(id) {
-		if *modeL != "" {
+		if len(q.modes) > 0 {
 			keep := []rpt.ModeTrend{}
 			rt.Warnings = []string{}
 			for _, m := range rt.Modes {
-				if m.Label == *modeL {
+				if slices.Contains(q.modes, m.Label) {
 					keep = append(keep, m)
 					if m.Warning != "" {
 						rt.Warnings = append(rt.Warnings, m.Warning)

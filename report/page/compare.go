@@ -37,6 +37,9 @@ type CompareOptions struct {
 	// writing (zero: time.Now()), shown in the location of Now.
 	Generator, Database string
 	Now                 time.Time
+	// WithFlagged counts the modes a doubting flag names too
+	// (report.IdentifyOptions.WithFlagged).
+	WithFlagged bool
 }
 
 // CompareSummary is what Compare reports back.
@@ -85,7 +88,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 			return sum, fmt.Errorf("prototype %s, revision %s: %w", orNone(opt.Prototype), orNone(r.rev), ErrNoHits)
 		}
 	}
-	id := report.Identify(hits, report.IdentifyOptions{Expected: opt.Expected})
+	id := report.Identify(hits, report.IdentifyOptions{Expected: opt.Expected, WithFlagged: opt.WithFlagged})
 	cs := report.Compare(id, a, b)
 	stats := report.Stats(id)
 	v := &compareView{

@@ -64,6 +64,9 @@ type DailyOptions struct {
 	// (default 1500): beyond, every k-th is drawn and the page says so.
 	// The day's hits are always drawn.
 	MaxCampaignPoints int
+	// WithFlagged counts the modes a doubting flag names too
+	// (report.IdentifyOptions.WithFlagged).
+	WithFlagged bool
 }
 
 // Default caps of DailyOptions.
@@ -356,7 +359,7 @@ func prototypeView(ctx context.Context, src Source, proto string, since, until t
 	if err != nil {
 		return pv, err
 	}
-	var iopt report.IdentifyOptions
+	iopt := report.IdentifyOptions{WithFlagged: opt.WithFlagged}
 	if opt.Expected != nil {
 		iopt.Expected = opt.Expected(proto)
 	}
