@@ -8,7 +8,7 @@ import (
 // AnalysisVersion names the analysis that produced a Result. Bump it when
 // an estimator or a rule changes in a way that can change stored numbers;
 // the history keeps it beside every result.
-const AnalysisVersion = "1.2.0"
+const AnalysisVersion = "1.2.1"
 
 // Role says what a channel measured.
 type Role string

@@ -72,3 +72,27 @@ func TestDoubleStrikeNoisyForce(t *testing.T) {
 	}
 	wantNone(t, DoubleStrike{}.Check(in, DefaultThresholds()))
 }
+
+// A rise in the record's first samples, with nothing before it to show the
+// force at rest, is not a strike (the defect shown by the corpus file
+// testdata/field/quantisation-spoiled.csv: a weak tap whose force noise
+// started the record at 19 % of the pulse was rejected as a double strike).
+func TestDoubleStrikeRecordStart(t *testing.T) {
+	in := input(goodHit())
+	fp, ok := findPulse(in.Force, DefaultThresholds())
+	if !ok {
+		t.Fatal("no pulse in the good hit")
+	}
+	in.Force.Samples[0] += 0.3 * fp.height
+	in.Force.Samples[1] += 0.2 * fp.height
+	wantNone(t, DoubleStrike{}.Check(in, DefaultThresholds()))
+	// the same excursion after a quiet lead-in is a strike
+	in = input(goodHit())
+	for i := 40; i < 44; i++ {
+		in.Force.Samples[i] += 0.3 * fp.height
+	}
+	if fp.start <= 100 {
+		t.Skipf("the good hit's pulse starts at sample %d: no room for a lead-in", fp.start)
+	}
+	wantReason(t, DoubleStrike{}.Check(in, DefaultThresholds()), CodeDoubleStrike, pipeline.SeverityReject, 1)
+}

@@ -139,7 +139,10 @@ type pulse struct {
 // lobes, the negative one first. So the force is back at rest only when it
 // has stayed within the return level on both sides for as long as the main
 // pulse lasted (at least half a millisecond); a rise before that is the
-// pulse's own ringing, not a second strike.
+// pulse's own ringing, not a second strike. The same quiet lead-in is asked
+// of a pulse before the main one: a rise in the record's first samples,
+// with nothing before it to show the force at rest, is the recorder's or
+// the noise's, not a strike that can be told from them.
 func (fp forcePulse) pulses(th Thresholds) []pulse {
 	rise := math.Max(th.StrikeRiseFraction*fp.height, riseNoiseSD*fp.sd)
 	ret := th.StrikeReturnFraction * fp.height
@@ -154,7 +157,7 @@ func (fp forcePulse) pulses(th Thresholds) []pulse {
 			quiet = 0
 		}
 		switch {
-		case !in && v > rise && (len(out) == 0 || quiet0(fp.g, i, rest, ret)):
+		case !in && v > rise && ((i >= fp.start && i <= fp.end) || quiet0(fp.g, i, rest, ret)):
 			in = true
 			out = append(out, pulse{peak: i, height: v})
 		case in && quiet >= rest:

@@ -215,12 +215,14 @@ func locateHit(x []float64, fs float64, force []float64) hit {
 		// a pulse must stand out of the channel's own noise (robust sd over
 		// the whole channel, which a short pulse hardly moves)
 		if _, fsdAll := robustSD(force); fp > 20*fsdAll {
-			thr := 0.05 * fp
-			i := 0
-			for i < n && math.Abs(force[i]-fb) <= thr {
-				i++
-			}
-			for i > 0 && math.Abs(force[i-1]-fb) > 0.01*fp {
+			// the hit starts where the main pulse leaves the force's rest:
+			// back from its peak to the last sample within 1 % of the peak
+			// or 3 noise sd of the force. Searching forward for the first
+			// sample above a threshold instead would take a noise spike at
+			// the record's start (a weak tap on a noisy hammer) for the hit.
+			rest := math.Max(0.01*fp, 3*fsdAll)
+			i := ifp
+			for i > 0 && math.Abs(force[i-1]-fb) > rest {
 				i--
 			}
 			forceTrig = i

@@ -125,7 +125,22 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 	y, fsx := decimateLow(seg, a.fs, hi, d)
 	i0 := pre / d
 
-	a.halfPower(m, fd, hi, isolated)
+	// Rounding to the ADC step is noise only while the signal spans many
+	// steps; a decay of a few steps is distorted (below half a step it is
+	// erased), which the envelope, the decrement and the bandwidth read as
+	// extra damping. So the cross-checks take the quantisation noise
+	// step/sqrt(12) as a floor of their band noise, and a mode that does not
+	// start 10 times above it (about 3 steps) gets none: there is nothing
+	// to cross-check it with that the rounding leaves intact.
+	nbx := nb
+	rounded := false
+	if a.step > 0 {
+		nbx = math.Max(nb, a.step/math.Sqrt(12))
+		rounded = ampRec < 10*nbx
+	}
+	if !rounded {
+		a.halfPower(m, fd, hi, isolated)
+	}
 	if !isolated {
 		return
 	}
@@ -133,6 +148,10 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 		diag.BandLowHz, diag.BandHighHz = 0, hi
 	} else {
 		diag.BandLowHz, diag.BandHighHz = lo, hi
+	}
+	if rounded {
+		diag.Isolated = true
+		return
 	}
 	var bp []float64
 	var err error
@@ -159,19 +178,21 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 		fnMeas := fd / math.Sqrt(1-z*z)
 		return CorrectZetaExpWindow(fnMeas, z, tau)
 	}
-	if z, us, err := EnvelopeDamping(env, fsx, fd, nb); err == nil {
+	if z, us, err := EnvelopeDamping(env, fsx, fd, nbx); err == nil {
 		fn, zc := fixZeta(z)
 		m.Estimates = append(m.Estimates, pipeline.Estimate{Method: MethodEnvelope, FrequencyHz: fn, DampingRatio: zc,
 			Note: "log-linear fit of the Hilbert envelope; frequency from the primary damped frequency"})
-		diag.UsableS = us
-		m.Cycles = us * fd
+		if nbx == nb { // the span above the noise, not above the rounding floor
+			diag.UsableS = us
+			m.Cycles = us * fd
+		}
 	}
-	if z, cyc, err := LogDecrementSignal(bp, fsx, fd, nb, 0); err == nil {
+	if z, cyc, err := LogDecrementSignal(bp, fsx, fd, nbx, 0); err == nil {
 		fn, zc := fixZeta(z)
 		m.Estimates = append(m.Estimates, pipeline.Estimate{Method: MethodLogDec, FrequencyHz: fn, DampingRatio: zc,
 			Note: fmt.Sprintf("over %d cycles; frequency from the primary damped frequency", cyc)})
 	}
-	early, late := EnvelopeSplit(env, fsx, fd, nb)
+	early, late := EnvelopeSplit(env, fsx, fd, nbx)
 	if !math.IsNaN(early) {
 		_, early = fixZeta(early)
 	}
@@ -182,12 +203,12 @@ func (a *analysis) crossChecks(m *pipeline.Mode, diag *ModeDiag, fit *Fit, k int
 	edge := EnvelopeEdge(fsx, fd)
 	if edge < len(env) {
 		e := env[edge:]
-		nbs := nb
+		nbs := nbx
 		if tau > 0 {
 			// judge the shape on the envelope with the window divided out
 			// from the onset on: its noise is then the windowed noise at
 			// the onset throughout
-			nbs = nb * math.Exp(-t0/tau)
+			nbs = nbx * math.Exp(-t0/tau)
 			u := make([]float64, len(e))
 			for i, v := range e {
 				u[i] = v * math.Exp(float64(edge+i)/(fsx*tau))

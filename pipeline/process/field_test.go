@@ -23,10 +23,9 @@ import (
 //
 //	RINGLOG_FIELD_KNOWN=1 go test ./pipeline/process -run TestFieldCorpus -v
 var fieldKnownFailures = map[string]string{
-	"ac-coupling-clean":    "issue 8 item 6: the 41 Hz damping (fs 256 Hz, highpass_hz = 0.5 configured) reads 0.993 % against 1.000 %, [0.987, 0.99996] at 3.29 sigma; over 100 trials (ringlog accuracy --realistic) the bias is only +0.08 % but the scatter is 2.6 times the Cramer-Rao bound and the 95 % intervals cover 77 %: too narrow for a record whose anti-alias filter still rings (2 of 17 m/s^2 7 ms after the contact at this rate) where the fit starts",
-	"quantisation-clean":   "issue 8 item 7: the noise is now the floor step/sqrt(12) = 0.0044 m/s^2, but the 410 Hz damping reads 0.00802 with a 3.29-sigma interval [0.00801, 0.00804] that misses 0.00800 (the rounding of a decay far below one step is not noise)",
-	"quantisation-spoiled": "issue 8 item 7: short_decay is raised, but with a noise estimate of 0 the trigger is put at sample 0 (no_lead_in), the quantised 5 N force pulse is read as a double strike and estimates_disagree is raised too",
-	"plate-modes-clean":    "issue 8 item 8: 3 of 12 plate modes (98, 609 and 713 Hz, 32-50 dB above the noise) are not found and no mode_limit says so; the 499 Hz damping and the 648 and 777 Hz frequencies miss their intervals",
+	"ac-coupling-clean":  "issue 8 item 6: the 41 Hz damping (fs 256 Hz, highpass_hz = 0.5 configured) reads 0.993 % against 1.000 %, [0.987, 0.99996] at 3.29 sigma; over 100 trials (ringlog accuracy --realistic) the bias is only +0.08 % but the scatter is 2.6 times the Cramer-Rao bound and the 95 % intervals cover 77 %: too narrow for a record whose anti-alias filter still rings (2 of 17 m/s^2 7 ms after the contact at this rate) where the fit starts",
+	"quantisation-clean": "issue 8 item 7: the noise is now the floor step/sqrt(12) = 0.0044 m/s^2, but the 410 Hz damping reads 0.00802 with a 3.29-sigma interval [0.00801, 0.00804] that misses 0.00800 (the rounding of a decay far below one step is not noise)",
+	"plate-modes-clean":  "issue 8 item 8: 3 of 12 plate modes (98, 609 and 713 Hz, 32-50 dB above the noise) are not found and no mode_limit says so; the 499 Hz damping and the 648 and 777 Hz frequencies miss their intervals",
 }
 
 // fieldZ is how many standard errors from its estimate the truth may lie
