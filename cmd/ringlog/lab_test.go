@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"os"
@@ -81,6 +82,12 @@ func TestLabBayKilledDuringForwarding(t *testing.T) {
 	t.Logf("killed with %d hits central, spool %+v", st.Hits, st.Forwarding)
 
 	d2 := startDaemon(t, cfg)
+	// the restarted daemon must be running before the stop below: all hits
+	// may have been forwarded before the kill, so the next condition can
+	// hold at once
+	waitFor(t, "the restarted daemon running", func() (bool, string) {
+		return strings.Contains(d2.stderr.String(), "ringlog daemon started"), tail(d2.stderr.String(), 500)
+	})
 	waitFor(t, "every hit forwarded", func() (bool, string) {
 		st, _, err := labStatusOf("--config", cfg)
 		if err != nil {
@@ -191,5 +198,25 @@ func TestLabServerAway(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(dir, defaultSpool)); err != nil {
 		t.Errorf("no spool beside the config: %v", err)
+	}
+}
+
+// TestWatchStoppedWhileStarting: a stop asked for while the daemon is still
+// opening its database (a lab server that answers slowly, a bay lock still
+// held by a killed daemon's session) ends it with exit status 0 and a
+// message, not with the failure the cancelled start produces (the defect
+// seen in TestLabBayKilledDuringForwarding: "listing pending files: context
+// canceled", exit 1).
+func TestWatchStoppedWhileStarting(t *testing.T) {
+	s := newSetup(t, daemonConfig{})
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	var o, e bytes.Buffer
+	code := run(ctx, &env{stdout: &o, stderr: &e}, []string{"watch", "--config", s.cfgPath})
+	if code != exitOK {
+		t.Fatalf("exit %d, want %d: %s", code, exitOK, e.String())
+	}
+	if !strings.Contains(e.String(), "stopped while starting") {
+		t.Errorf("no word of the stop: %q", e.String())
 	}
 }

@@ -47,6 +47,12 @@ func runWatch(ctx context.Context, e *env, args []string) error {
 	}
 	m := &Main{Config: cfg, Stderr: e.stderr}
 	if err := m.Open(ctx); err != nil {
+		if ctx.Err() != nil {
+			// a stop asked for while starting (waiting for the database or
+			// its lock) is a stop, not a failure
+			fmt.Fprintf(e.stderr, "ringlog watch: stopped while starting (%v); nothing was recorded\n", err)
+			return nil
+		}
 		return err
 	}
 	defer m.Close()
