@@ -11,12 +11,14 @@ import (
 )
 
 // JSON encodes v like encoding/json (struct field order, json tags,
-// omitempty, embedded structs inlined) with two differences that suit
+// omitempty, embedded structs inlined) with three differences that suit
 // statistics: a float that is NaN or infinite (a quantity that cannot be
-// computed, such as the interval of one value) is written as null, and a
-// nil slice is written as [] so that scripts can always iterate. A key
-// that two fields (one of an embedded struct) would both write is an
-// error, not a silent choice.
+// computed, such as the interval of one value) is written as null, a nil
+// slice is written as [] so that scripts can always iterate, and a field
+// tagged "nullempty" is written as null when it holds its zero value (an
+// empty string, 0, false, an empty slice or map), so that a documented key
+// is always present. A key that two fields (one of an embedded struct)
+// would both write is an error, not a silent choice.
 func JSON(v any) ([]byte, error) {
 	var buf bytes.Buffer
 	if err := encodeValue(&buf, reflect.ValueOf(v)); err != nil {
@@ -137,12 +139,13 @@ func encodeFields(buf *bytes.Buffer, v reflect.Value, first *bool, seen map[stri
 		if name == "" {
 			name = f.Name
 		}
-		if strings.Contains(opts, "omitempty") && fv.IsZero() {
+		if hasOpt(opts, "omitempty") && fv.IsZero() {
 			continue
 		}
-		if strings.Contains(opts, "omitempty") && (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0 {
+		if hasOpt(opts, "omitempty") && (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0 {
 			continue
 		}
+		null := hasOpt(opts, "nullempty") && (fv.IsZero() || (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0)
 		if seen[name] {
 			return fmt.Errorf("report: JSON key %q twice in %s", name, t)
 		}
@@ -154,9 +157,23 @@ func encodeFields(buf *bytes.Buffer, v reflect.Value, first *bool, seen map[stri
 		kb, _ := json.Marshal(name)
 		buf.Write(kb)
 		buf.WriteByte(':')
+		if null {
+			buf.WriteString("null")
+			continue
+		}
 		if err := encodeValue(buf, fv); err != nil {
 			return fmt.Errorf("%s: %w", name, err)
 		}
 	}
 	return nil
+}
+
+// hasOpt says whether the comma-separated tag options opts include opt.
+func hasOpt(opts, opt string) bool {
+	for o := range strings.SplitSeq(opts, ",") {
+		if o == opt {
+			return true
+		}
+	}
+	return false
 }

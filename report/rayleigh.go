@@ -74,6 +74,14 @@ type RayleighOptions struct {
 	// Seed their generator's seed (default 1).
 	MCSamples int
 	Seed      uint64
+	// UnknownSD says the modes carry no uncertainty of their own (damping
+	// ratios given without SD): their SDs are relative weights only. The
+	// covariance is then always scaled by chi2/dof (Student t on dof), as
+	// in least squares with an unknown variance; with dof = 0 (the curve
+	// passes through every mode) there is no interval. No Monte Carlo
+	// interval is made, and each mode's scatter is unknown (NaN): a mode is
+	// inside only when dof = 0, where the curve passes through every mode.
+	UnknownSD bool
 }
 
 // Fit methods.
@@ -104,7 +112,7 @@ type RayleighFit struct {
 	MCSamples   int        `json:"mc_samples"`
 	// Unconstrained is (alpha, beta) before the non-negativity constraint.
 	Unconstrained [2]float64 `json:"unconstrained"`
-	Constraint    string     `json:"constraint,omitempty"`
+	Constraint    string     `json:"constraint,nullempty"`
 	// Chi2 is sum ((fit - measured)/SD)^2 over the modes, DOF the modes
 	// less the free coefficients. Scale multiplies the covariance: Chi2/DOF
 	// when DOF > 0 and Chi2/DOF > 1 (the scatter between modes is larger
@@ -183,7 +191,10 @@ func FitRayleigh(modes []RayleighMode, opt RayleighOptions) (RayleighFit, error)
 	fit.DOF = len(ms) - nfree
 	fit.Scale = 1
 	q := z975
-	if fit.DOF > 0 && fit.Chi2/float64(fit.DOF) > 1 {
+	switch {
+	case opt.UnknownSD && fit.DOF == 0:
+		fit.Scale = math.NaN()
+	case fit.DOF > 0 && (opt.UnknownSD || fit.Chi2/float64(fit.DOF) > 1):
 		fit.Scale = fit.Chi2 / float64(fit.DOF)
 		q = TQuantile(0.5+Level/2, float64(fit.DOF))
 	}
@@ -202,6 +213,29 @@ func FitRayleigh(modes []RayleighMode, opt RayleighOptions) (RayleighFit, error)
 	}
 	fit.AlphaCI95 = ci(fit.Alpha, fit.AlphaSD, s.freeA)
 	fit.BetaCI95 = ci(fit.Beta, fit.BetaSD, s.freeB)
+
+	for i := range ms {
+		ms[i].Fitted = RayleighDamping(fit.Alpha, fit.Beta, w[i])
+		if opt.UnknownSD {
+			// No scatter to judge against: inside only where the curve
+			// passes through every mode.
+			ms[i].ScatterSD = math.NaN()
+			ms[i].Inside = fit.DOF == 0
+			continue
+		}
+		ms[i].Inside = math.Abs(ms[i].Fitted-ms[i].Damping) <= 2*ms[i].ScatterSD
+	}
+	fit.Modes = ms
+	fit.BandHz = rayleighBand(&fit)
+	fit.MinDamping, fit.MinFrequencyHz = math.NaN(), math.NaN()
+	if fit.Alpha > 0 && fit.Beta > 0 {
+		fit.MinDamping = math.Sqrt(fit.Alpha * fit.Beta)
+		fit.MinFrequencyHz = math.Sqrt(fit.Alpha/fit.Beta) / (2 * math.Pi)
+	}
+	if opt.UnknownSD {
+		fit.MCAlphaCI95, fit.MCBetaCI95 = nan2, nan2
+		return fit, nil
+	}
 
 	// Monte Carlo: draw each mode's mean damping from N(mean, SD^2)
 	// (values below a thousandth of the mean are clipped there) and refit.
@@ -222,18 +256,6 @@ func FitRayleigh(modes []RayleighMode, opt RayleighOptions) (RayleighFit, error)
 	fit.MCAlphaCI95 = [2]float64{stat.Quantile(a, stat.Empirical, as, nil), stat.Quantile(1-a, stat.Empirical, as, nil)}
 	fit.MCBetaCI95 = [2]float64{stat.Quantile(a, stat.Empirical, bs, nil), stat.Quantile(1-a, stat.Empirical, bs, nil)}
 	fit.MCSamples = opt.MCSamples
-
-	for i := range ms {
-		ms[i].Fitted = RayleighDamping(fit.Alpha, fit.Beta, w[i])
-		ms[i].Inside = math.Abs(ms[i].Fitted-ms[i].Damping) <= 2*ms[i].ScatterSD
-	}
-	fit.Modes = ms
-	fit.BandHz = rayleighBand(&fit)
-	fit.MinDamping, fit.MinFrequencyHz = math.NaN(), math.NaN()
-	if fit.Alpha > 0 && fit.Beta > 0 {
-		fit.MinDamping = math.Sqrt(fit.Alpha * fit.Beta)
-		fit.MinFrequencyHz = math.Sqrt(fit.Alpha/fit.Beta) / (2 * math.Pi)
-	}
 	return fit, nil
 }
 
@@ -413,7 +435,10 @@ type RayleighReport struct {
 	// when that is stiffness-only).
 	StiffnessOnly *RayleighFit      `json:"stiffness_only"`
 	Units         map[string]string `json:"units"`
-	Cautions      []string          `json:"cautions"`
+	// Warnings concern these numbers: a mode resting on one hit, or
+	// damping ratios given without an uncertainty ([] when none).
+	Warnings []string `json:"warnings"`
+	Cautions []string `json:"cautions"`
 	// Hits are the hits used (provenance).
 	Hits []HitRef `json:"-"`
 }
@@ -447,6 +472,15 @@ func RayleighFor(rs RevisionStats, labels []string, opt RayleighOptions) (Raylei
 		}
 	}
 	rep.NHits = len(hits)
+	var single []string
+	for _, m := range modes {
+		if m.N == 1 {
+			single = append(single, m.Name)
+		}
+	}
+	if len(single) > 0 {
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("one hit only behind mode(s) %s: their uncertainty is the estimator's standard error of that hit, so the intervals hold no hit-to-hit scatter; strike again before quoting them", strings.Join(single, ", ")))
+	}
 	need := 2
 	if opt.StiffnessOnly {
 		need = 1
