@@ -16,10 +16,11 @@ import (
 const MaxLiveHits = 500
 
 // RecentHits returns the n most recently recorded hits, newest first, each
-// with its current result. n is capped at MaxLiveHits.
+// with its current result. Here and below, superseded hits (see
+// RecordResult) are left out. n is capped at MaxLiveHits.
 func (db *DB) RecentHits(ctx context.Context, n int) ([]Hit, error) {
 	n = max(1, min(n, MaxLiveHits))
-	return db.hitsByRecording(ctx, "recent hits", " ORDER BY h.ingested_at DESC, h.id DESC LIMIT ?", nil, n)
+	return db.hitsByRecording(ctx, "recent hits", " WHERE h.superseded_by IS NULL ORDER BY h.ingested_at DESC, h.id DESC LIMIT ?", nil, n)
 }
 
 // HitsAfter returns the hits recorded after the hit with id afterID
@@ -27,7 +28,7 @@ func (db *DB) RecentHits(ctx context.Context, n int) ([]Hit, error) {
 // at MaxLiveHits). afterID 0 starts at the first hit.
 func (db *DB) HitsAfter(ctx context.Context, afterID int64, limit int) ([]Hit, error) {
 	limit = max(1, min(limit, MaxLiveHits))
-	return db.hitsByRecording(ctx, "hits after an id", " WHERE h.id > ? ORDER BY h.id LIMIT ?", []any{afterID}, limit)
+	return db.hitsByRecording(ctx, "hits after an id", " WHERE h.id > ? AND h.superseded_by IS NULL ORDER BY h.id LIMIT ?", []any{afterID}, limit)
 }
 
 // hitsByRecording loads hits with their current results; tail is the
@@ -97,7 +98,7 @@ func (db *DB) TallyRecorded(ctx context.Context, since, until time.Time) ([]Tall
 	err := db.read(ctx, "tally of the day", func(tx *sql.Tx) error {
 		rows, err := tx.QueryContext(ctx, `
 SELECT prototype, revision, verdict, count(*) FROM hits
-WHERE ingested_at >= ? AND ingested_at < ?
+WHERE ingested_at >= ? AND ingested_at < ? AND superseded_by IS NULL
 GROUP BY prototype, revision, verdict ORDER BY prototype, revision, verdict`, toNS(since), toNS(until))
 		if err != nil {
 			return err

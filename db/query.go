@@ -36,6 +36,9 @@ type Filter struct {
 	// Synthetic selects the synthetic hits (made for benchmarks, see
 	// RecordSynthetic) instead of the real ones: a query never mixes them.
 	Synthetic bool
+	// WithSuperseded also selects the hits a later version of their file
+	// superseded (see RecordResult); they are left out otherwise.
+	WithSuperseded bool
 }
 
 // Hit is one stored hit with its current result.
@@ -54,6 +57,14 @@ type Hit struct {
 	// ModeIDs holds the database id of each mode of Result.Modes, in the
 	// same order, for SetModeLabel.
 	ModeIDs []int64
+	// SupersededBy is the hit that superseded this one (a later version
+	// of its file), 0 while it is current; SupersededBySHA256 is that
+	// hit's SHA-256 and SupersededAt when it was recorded. Loaded only
+	// with Filter.WithSuperseded (other queries never return a superseded
+	// hit).
+	SupersededBy       int64
+	SupersededBySHA256 string
+	SupersededAt       time.Time
 }
 
 // StoredFile is what a reanalysis needs to find a hit's bytes again.
@@ -71,6 +82,9 @@ func (f Filter) where() (string, []any) {
 	conds := []string{"h.first_path NOT LIKE '" + SyntheticPathPrefix + "%'"}
 	if f.Synthetic {
 		conds[0] = "h.first_path LIKE '" + SyntheticPathPrefix + "%'"
+	}
+	if !f.WithSuperseded {
+		conds = append(conds, "h.superseded_by IS NULL")
 	}
 	var args []any
 	eq := func(col, v string) {
@@ -176,6 +190,11 @@ ORDER BY h.hit_time, h.id`+f.limit(), args...)
 			return err
 		}
 		rows.Close()
+		if f.WithSuperseded {
+			if err := loadSuperseded(ctx, tx, hits); err != nil {
+				return err
+			}
+		}
 		return loadDetails(ctx, tx, hits)
 	})
 	if err != nil {
@@ -434,7 +453,7 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 			return err
 		}
 		st.Pending = st.Files[StatePending]
-		if err := countInto(ctx, tx, "SELECT verdict, count(*) FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' GROUP BY verdict", func(k string, n int) {
+		if err := countInto(ctx, tx, "SELECT verdict, count(*) FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' AND superseded_by IS NULL GROUP BY verdict", func(k string, n int) {
 			st.Verdicts[pipeline.Verdict(k)] = n
 			st.Hits += n
 		}); err != nil {
@@ -443,7 +462,7 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 		var lh LastHit
 		var ht, ing int64
 		err := tx.QueryRowContext(ctx,
-			"SELECT id, first_path, hit_time, ingested_at, verdict FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' ORDER BY ingested_at DESC, id DESC LIMIT 1").
+			"SELECT id, first_path, hit_time, ingested_at, verdict FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' AND superseded_by IS NULL ORDER BY ingested_at DESC, id DESC LIMIT 1").
 			Scan(&lh.ID, &lh.Path, &ht, &ing, &lh.Verdict)
 		switch {
 		case err == nil:

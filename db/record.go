@@ -35,6 +35,12 @@ type Outcome struct {
 	// Repeat is true when this same path with the same bytes had already
 	// been recorded: nothing new was stored.
 	Repeat bool
+	// Superseded lists the hits this recording superseded: the path held
+	// other bytes before, whose hit is no longer counted.
+	Superseded []Predecessor
+	// Revived is true when the path holds again the bytes of a hit that a
+	// later version had superseded: that hit is current again.
+	Revived bool
 }
 
 // RecordResult stores the analysis of one file in a single immediate
@@ -45,6 +51,13 @@ type Outcome struct {
 //   - otherwise the hit, its result with modes, estimates and reasons, and
 //     the analyses row for (analysis version, settings) are stored and the
 //     file row becomes analysed.
+//
+// One path has one current hit: when the path held other bytes before (the
+// file was appended, rewritten or replaced), the hits first recorded under
+// it are superseded by the hit it holds now (Outcome.Superseded), new or
+// duplicate; they stay as provenance and queries leave them out. A path
+// that holds again the bytes of a hit it superseded makes that hit current
+// again (Outcome.Revived).
 //
 // settings is the analysis configuration, stored as JSON for provenance;
 // nil stores {}.
@@ -59,7 +72,7 @@ func (db *DB) RecordResult(ctx context.Context, fi FileInfo, meta HitMeta, res *
 		if out, err = recordTx(ctx, tx, in, time.Now()); err != nil {
 			return err
 		}
-		if db.spool && !out.Repeat {
+		if db.spool && !out.Repeat { // a supersede or revival travels with its result
 			return addToOutbox(ctx, tx, outboxResult, in.fi, "", 0)
 		}
 		return nil
@@ -131,7 +144,9 @@ func recordTx(ctx context.Context, tx *sql.Tx, in recordInput, now time.Time) (O
 	for pass := 0; ; pass++ {
 		out = Outcome{}
 		var firstPath string
-		err := tx.QueryRowContext(ctx, "SELECT id, first_path FROM hits WHERE sha256 = ?", in.fi.SHA256).Scan(&out.HitID, &firstPath)
+		var supersededBy sql.NullInt64
+		err := tx.QueryRowContext(ctx, "SELECT id, first_path, superseded_by FROM hits WHERE sha256 = ?", in.fi.SHA256).
+			Scan(&out.HitID, &firstPath, &supersededBy)
 		switch {
 		case err == nil:
 			if err := tx.QueryRowContext(ctx, "SELECT id FROM results WHERE hit_id = ? AND superseded = 0", out.HitID).
@@ -139,10 +154,22 @@ func recordTx(ctx context.Context, tx *sql.Tx, in recordInput, now time.Time) (O
 				return out, fmt.Errorf("current result of hit %d: %w", out.HitID, err)
 			}
 			state := StateDuplicate
-			if firstPath == in.fi.Path {
-				state, out.Repeat = StateAnalysed, true
-			} else {
+			switch {
+			case firstPath != in.fi.Path:
 				out.Duplicate = true
+			case supersededBy.Valid:
+				// The file holds its earlier bytes again.
+				if err := revive(ctx, tx, out.HitID); err != nil {
+					return out, err
+				}
+				state, out.Revived = StateAnalysed, true
+			default:
+				state, out.Repeat = StateAnalysed, true
+			}
+			if !out.Repeat {
+				if out.Superseded, err = supersedePath(ctx, tx, in.fi.Path, out.HitID, now); err != nil {
+					return out, err
+				}
 			}
 			return out, upsertFile(ctx, tx, in.fi, state, out.HitID, now)
 		case !errors.Is(err, sql.ErrNoRows):
@@ -169,6 +196,9 @@ RETURNING id`,
 			return out, fmt.Errorf("inserting hit: %w", err)
 		}
 		if out.ResultID, err = insertResult(ctx, tx, out.HitID, analysisID, in.res, now); err != nil {
+			return out, err
+		}
+		if out.Superseded, err = supersedePath(ctx, tx, in.fi.Path, out.HitID, now); err != nil {
 			return out, err
 		}
 		return out, upsertFile(ctx, tx, in.fi, StateAnalysed, out.HitID, now)

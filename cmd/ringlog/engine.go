@@ -199,6 +199,7 @@ func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 	if err != nil {
 		return out, err
 	}
+	e.logSupersede(o, out)
 	ev := e.log.Info().Str("file", o.path).Str("verdict", string(o.res.Verdict)).Int("modes", len(o.res.Modes))
 	if out.Duplicate {
 		ev = e.log.Info().Str("file", o.path).Int64("hit", out.HitID)
@@ -219,6 +220,20 @@ func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 	}
 	ev.Msg("hit recorded")
 	return out, nil
+}
+
+// logSupersede logs the hits a recording superseded (the file held other
+// bytes before) and a hit made current again.
+func (e *engine) logSupersede(o outcome, out db.Outcome) {
+	for _, p := range out.Superseded {
+		e.log.Info().Str("file", o.path).Str("sha256", o.fi.SHA256).Int64("hit", out.HitID).
+			Str("superseded_sha256", p.SHA256).Int64("superseded_hit", p.HitID).Str("superseded_verdict", string(p.Verdict)).
+			Msg("file changed after it was recorded; its earlier hit is superseded and no longer counted")
+	}
+	if out.Revived {
+		e.log.Info().Str("file", o.path).Str("sha256", o.fi.SHA256).Int64("hit", out.HitID).
+			Msg("file holds its earlier content again; that hit is current again")
+	}
 }
 
 // hitMeta merges the metadata sources, later ones overriding earlier:

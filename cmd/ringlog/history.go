@@ -75,14 +75,26 @@ type hitJSON struct {
 	Channel   string            `json:"channel"`
 	Analysis  string            `json:"analysis_version"`
 	Meta      map[string]string `json:"meta,omitempty"`
+	// Superseded is null for a current hit; for a hit that a later
+	// version of its file superseded (history --superseded), by what and
+	// when.
+	Superseded *supersededJSON `json:"superseded"`
+}
+
+// supersededJSON tells what superseded a hit: the SHA-256 of the file's
+// newer content and when it was recorded.
+type supersededJSON struct {
+	BySHA256 string    `json:"by_sha256"`
+	At       time.Time `json:"at"`
 }
 
 func runHistory(ctx context.Context, e *env, args []string) error {
-	fl := newFlags("history", "--db PATH [--prototype P] [--revision R] [--bay B] [--mode LABEL] [--since DATE] [--until DATE] [--verdict V,...] [--json]", e.stderr)
+	fl := newFlags("history", "--db PATH [--prototype P] [--revision R] [--bay B] [--mode LABEL] [--since DATE] [--until DATE] [--verdict V,...] [--superseded] [--json]", e.stderr)
 	q := addQueryFlags(fl)
 	fl.Lookup("mode").Usage = "only hits with a mode stored under this label; repeat it for several"
 	verdict := addVerdictFlag(fl)
 	asJSON := fl.Bool("json", false, "print one JSON object per hit, one per line")
+	superseded := fl.Bool("superseded", false, "also list the hits a later version of their file superseded (not counted anywhere), marked as such")
 	rest, err := parseInterleaved(fl, args)
 	if err != nil {
 		return err
@@ -97,6 +109,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 	if err := verdictFilter(&f, *verdict); err != nil {
 		return err
 	}
+	f.WithSuperseded = *superseded
 	path, err := q.database()
 	if err != nil {
 		return err
@@ -122,6 +135,10 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 		r := h.Result
 		fmt.Fprintf(e.stdout, "%s  %-8s %s/%s %s  %s\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
 			orDash(h.Meta.Prototype), orDash(h.Meta.Revision), orDash(h.Meta.Bay), h.Path)
+		if h.SupersededBy != 0 {
+			fmt.Fprintf(e.stdout, "    superseded %s: the file changed, its content is now the hit with SHA-256 %.12s; not counted\n",
+				h.SupersededAt.Local().Format("2006-01-02 15:04:05"), h.SupersededBySHA256)
+		}
 		for i, m := range r.Modes {
 			label := m.Label
 			if label == "" {
@@ -150,7 +167,15 @@ func toHitJSON(h db.Hit) hitJSON {
 		File: h.Path, SHA256: h.SHA256, Verdict: r.Verdict, Prototype: h.Meta.Prototype, Revision: h.Meta.Revision,
 		Bay: h.Meta.Bay, Point: h.Meta.Point, Direction: h.Meta.Direction, HitTime: h.Meta.HitTime, Ingested: h.IngestedAt,
 		Reasons: nonNil(r.Reasons), Modes: nonNil(r.Modes), Channel: r.Channel, Analysis: r.AnalysisVersion, Meta: h.Meta.Extra,
+		Superseded: supersededOf(h),
 	}
+}
+
+func supersededOf(h db.Hit) *supersededJSON {
+	if h.SupersededBy == 0 {
+		return nil
+	}
+	return &supersededJSON{BySHA256: h.SupersededBySHA256, At: h.SupersededAt}
 }
 
 func nonNil[T any](s []T) []T {

@@ -52,7 +52,7 @@ func runIngest(ctx context.Context, e *env, args []string) error {
 	}
 	defer store.Close()
 
-	var n, failed, dups, skipped atomic.Int64
+	var n, failed, dups, skipped, superseded atomic.Int64
 	verdicts := map[pipeline.Verdict]int{}
 	tty := false
 	if f, ok := e.stderr.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
@@ -79,6 +79,15 @@ func runIngest(ctx context.Context, e *env, args []string) error {
 			verdicts[o.res.Verdict]++
 			if !*quiet {
 				fmt.Fprintf(e.stdout, "%s%s: %s, %d mode(s)\n", clearLine(tty), o.path, o.res.Verdict, len(o.res.Modes))
+			}
+		}
+		if err == nil && o.err == nil {
+			superseded.Add(int64(len(rec.Superseded)))
+			if !*quiet {
+				for _, p := range rec.Superseded {
+					fmt.Fprintf(e.stdout, "%s: the file changed since it was recorded: supersedes hit %d (%s, SHA-256 %.12s), no longer counted\n",
+						o.path, p.HitID, p.Verdict, p.SHA256)
+				}
 			}
 		}
 		if tty && len(files) > 20 {
@@ -117,6 +126,9 @@ func runIngest(ctx context.Context, e *env, args []string) error {
 	}
 	fmt.Fprintf(e.stdout, "%d file(s): %d accepted, %d flagged, %d rejected, %d duplicate(s), %d already recorded, %d unreadable; database %s\n",
 		len(files), verdicts[pipeline.Accepted], verdicts[pipeline.Flagged], verdicts[pipeline.Rejected], dups.Load(), skipped.Load(), failed.Load(), cfg.Database)
+	if k := superseded.Load(); k > 0 {
+		fmt.Fprintf(e.stdout, "%d earlier hit(s) superseded by the changed file(s)\n", k)
+	}
 	if failed.Load() > 0 {
 		return errReported
 	}

@@ -365,3 +365,69 @@ func TestServerStoppedMidBurst(t *testing.T) {
 		}
 	}
 }
+
+// TestForwardSupersede: a file changed after it was recorded supersedes
+// its earlier hit in the central history too, whether the two versions
+// travel in one batch or two, and a batch sent again leaves the newer
+// version current.
+func TestForwardSupersede(t *testing.T) {
+	u := pgtest.URL(t)
+	ctx := context.Background()
+	spool := openSpool(t)
+	rec := func(content string, mtime time.Time) db.Outcome {
+		t.Helper()
+		fi := db.FileInfo{Path: "/export/p.csv", Size: int64(len(content)), MTime: mtime, SHA256: shaOf(content)}
+		o, err := spool.RecordResult(ctx, fi, db.HitMeta{Prototype: "P1", HitTime: mtime}, result(fi.Path, 1), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return o
+	}
+	rec("first part", t0)
+	f := newForwarder(t, spool, u, "bay-2")
+	if n, err := f.Flush(ctx); err != nil || n != 1 {
+		t.Fatalf("Flush = %d, %v", n, err)
+	}
+	rec("first part and more", t0.Add(time.Minute))
+	rec("first part and more still", t0.Add(2*time.Minute))
+	batch, err := spool.Outbox(ctx, 100)
+	if err != nil || len(batch) != 2 {
+		t.Fatalf("outbox: %d entries, %v; want the two later versions", len(batch), err)
+	}
+	if n, err := f.Flush(ctx); err != nil || n != 2 {
+		t.Fatalf("Flush = %d, %v", n, err)
+	}
+	central := openCentral(t, u)
+	check := func(when string) {
+		t.Helper()
+		hs, err := central.Hits(ctx, db.Filter{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(hs) != 1 || hs[0].SHA256 != shaOf("first part and more still") || hs[0].Path != "bay-2:/export/p.csv" {
+			t.Fatalf("%s: central current hits %d (%+v), want the last version only", when, len(hs), hs)
+		}
+		all, err := central.Hits(ctx, db.Filter{WithSuperseded: true})
+		if err != nil || len(all) != 3 {
+			t.Fatalf("%s: %d hits with the superseded, %v; want 3", when, len(all), err)
+		}
+		for _, h := range all {
+			if (h.ID == hs[0].ID) != (h.SupersededBy == 0) {
+				t.Errorf("%s: hit %d superseded by %d", when, h.ID, h.SupersededBy)
+			}
+		}
+		if st, err := central.Status(ctx); err != nil || st.Hits != 1 {
+			t.Errorf("%s: central status %+v, %v", when, st, err)
+		}
+	}
+	check("after forwarding")
+	// A crash after the central commit sends the batch again.
+	for i := range batch {
+		batch[i].File.Path = CentralPath("bay-2", batch[i].File.Path)
+		batch[i].Meta.Bay = "bay-2"
+	}
+	if _, err := central.Receive(ctx, batch); err != nil {
+		t.Fatal(err)
+	}
+	check("after a repeated batch")
+}

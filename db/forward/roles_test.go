@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/jackc/pgx/v5"
 
@@ -88,6 +89,11 @@ func TestRolesAndPasswords(t *testing.T) {
 	bayURL := cl.DBURL("ringlog_bay", "ringlog")
 	spool := openSpool(t)
 	record(t, spool, "r", "r", 0, 10, db.HitMeta{Prototype: "P1"})
+	// a file changed after it was recorded: its new hit supersedes the first
+	changed := db.FileInfo{Path: "/export/r0000.csv", Size: 9, MTime: t0.Add(time.Hour), SHA256: shaOf("r-0 and more")}
+	if _, err := spool.RecordResult(ctx, changed, db.HitMeta{Prototype: "P1"}, result(changed.Path, 0), nil); err != nil {
+		t.Fatal(err)
+	}
 	if err := spool.RecordFailure(ctx, db.FileInfo{Path: "/export/bad.csv", Size: 1, MTime: t0}, errors.New("truncated"), true); err != nil {
 		t.Fatal(err)
 	}
@@ -96,7 +102,7 @@ func TestRolesAndPasswords(t *testing.T) {
 		t.Fatal(err)
 	}
 	f := newForwarder(t, spool, bayURL, "bay-2")
-	if n, err := f.Flush(ctx); err != nil || n != 11 {
+	if n, err := f.Flush(ctx); err != nil || n != 12 {
 		t.Fatalf("the bay role forwarding: %d, %v", n, err)
 	}
 	// Sending a batch again (after a crash) needs only what the role has.
@@ -116,6 +122,7 @@ func TestRolesAndPasswords(t *testing.T) {
 	for _, stmt := range []string{
 		"DELETE FROM hits", "DELETE FROM files", "UPDATE hits SET verdict = 'accepted'",
 		"UPDATE results SET superseded = 1", "UPDATE modes SET damping_ratio = 0", "DROP TABLE reasons",
+		"UPDATE hits SET first_path = 'elsewhere'",
 	} {
 		if err := tryExec(ctx, bayPW, stmt); err == nil || !strings.Contains(err.Error(), "ermission denied") && !strings.Contains(err.Error(), "must be owner") {
 			t.Errorf("bay role: %s: %v, want permission denied", stmt, err)
