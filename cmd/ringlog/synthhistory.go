@@ -52,11 +52,22 @@ func runSynthHistory(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer store.Close()
-	release, err := store.LockWriter()
-	if err != nil {
-		return err
+	// one writer at a time: the file lock on SQLite, a bay of its own on a
+	// PostgreSQL server (a synthetic history never shares a database with
+	// bays that record real hits)
+	if db.IsPostgres(*dbPath) {
+		lock, err := store.LockBay(ctx, "synth-history")
+		if err != nil {
+			return err
+		}
+		defer lock.Release()
+	} else {
+		release, err := store.LockWriter()
+		if err != nil {
+			return err
+		}
+		defer release()
 	}
-	defer release()
 	start := time.Now()
 	opt := db.SyntheticOptions{Hits: *n, Prototype: *proto, Revisions: splitList(*revs), Seed: *seed, PerYear: *perYear, End: endAt,
 		Progress: func(done int) {
