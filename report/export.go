@@ -2,7 +2,6 @@ package report
 
 import (
 	"bufio"
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
@@ -145,10 +144,67 @@ var ExportCSVHeader = []string{
 	"mc_ci95_low", "mc_ci95_high", "fitted_damping_ratio", "method",
 }
 
-// WriteExportCSV writes the exports as one CSV table: "# " comment lines
-// first (format, tool, time, units, conventions, cautions, and the hits and
-// analysis versions of every revision), then the header ExportCSVHeader and
-// one row per record:
+// ExportCSVOptions tune WriteExportCSV.
+type ExportCSVOptions struct {
+	CSVOptions
+	// WithProvenance puts the provenance (ExportProvenance) above the
+	// table as "# " comment lines; without it the file is the table alone
+	// and imports cleanly into a spreadsheet.
+	WithProvenance bool
+}
+
+// ExportProvenance returns the provenance of a CSV export, one line each:
+// format, tool, time, units, conventions, cautions, and per revision the
+// hits used (id, SHA-256, analysis version, file), the analysis versions,
+// the constraint or note of its Rayleigh fit and the excluded counts. A
+// line break inside a value becomes a space.
+func ExportProvenance(exs []Export) []string {
+	var lines []string
+	line := func(format string, args ...any) {
+		lines = append(lines, strings.NewReplacer("\n", " ", "\r", " ").Replace(fmt.Sprintf(format, args...)))
+	}
+	line("format: %s", ExportFormat)
+	if len(exs) > 0 {
+		line("tool: %s", exs[0].Tool)
+		line("generated_at: %s", exs[0].GeneratedAt.Format(time.RFC3339))
+		line("prototype: %s", exs[0].Prototype)
+	}
+	line("units: frequency in Hz; damping ratio as a fraction of critical (0.02 = 2 %%); alpha in 1/s; beta in s; zeta(w) = alpha/(2 w) + beta w/2 with w = 2 pi f in rad/s")
+	line("intervals: 95 %%; mode ci95 = Student t interval of the mean; geometric_mean_ci95 = Student t interval on log damping ratio, back-transformed; coefficient ci95 from the weighted least-squares covariance (lower ends clipped at 0); mc_ci95 = Monte Carlo over each mode's uncertainty")
+	for _, c := range Cautions() {
+		line("caution: %s", c)
+	}
+	for _, ex := range exs {
+		line("revision %s: %d hit(s) used, analysis version(s) %s", revName(ex.Revision), len(ex.Provenance.Hits), strings.Join(ex.Provenance.AnalysisVersions, ", "))
+		if ex.Rayleigh != nil && ex.Rayleigh.Constraint != "" {
+			line("revision %s: %s", revName(ex.Revision), ex.Rayleigh.Constraint)
+		}
+		if ex.RayleighNote != "" {
+			line("revision %s: %s", revName(ex.Revision), ex.RayleighNote)
+		}
+		for _, e := range ex.Provenance.Excluded {
+			line("revision %s: excluded %d %s(s): %s", revName(ex.Revision), e.Count, e.What, e.Code)
+		}
+		for _, h := range ex.Provenance.Hits {
+			line("revision %s hit: id %d sha256 %s analysis %s file %s", revName(ex.Revision), h.ID, h.SHA256, h.AnalysisVersion, h.File)
+		}
+	}
+	return lines
+}
+
+// WriteExportProvenance writes ExportProvenance, one line each: the
+// companion file of a CSV export.
+func WriteExportProvenance(w io.Writer, exs []Export) error {
+	bw := bufio.NewWriter(w)
+	for _, l := range ExportProvenance(exs) {
+		bw.WriteString(l + "\n")
+	}
+	return bw.Flush()
+}
+
+// WriteExportCSV writes the exports as one CSV table (with
+// opt.WithProvenance, the provenance first as "# " comment lines): the
+// header ExportCSVHeader and one row per record:
 //   - record "mode": a mode's damping ratio (value = mean, ci95 = Student t
 //     interval of the mean, sd = hit-to-hit SD, n = hits), its mean
 //     frequency with interval, geometric mean with interval, and the
@@ -158,40 +214,16 @@ var ExportCSVHeader = []string{
 //     mc_ci95 the Monte Carlo interval, method.
 //
 // Cells that cannot be computed are empty. Numbers carry 6 significant
-// digits.
-func WriteExportCSV(w io.Writer, exs []Export) error {
+// digits. Cells are written by CSVWriter: none is taken as a formula.
+func WriteExportCSV(w io.Writer, exs []Export, opt ExportCSVOptions) error {
 	bw := bufio.NewWriter(w)
-	comment := func(format string, args ...any) {
-		s := strings.NewReplacer("\n", " ", "\r", " ").Replace(fmt.Sprintf(format, args...))
-		bw.WriteString("# " + s + "\n")
-	}
-	comment("format: %s", ExportFormat)
-	if len(exs) > 0 {
-		comment("tool: %s", exs[0].Tool)
-		comment("generated_at: %s", exs[0].GeneratedAt.Format(time.RFC3339))
-		comment("prototype: %s", exs[0].Prototype)
-	}
-	comment("units: frequency in Hz; damping ratio as a fraction of critical (0.02 = 2 %%); alpha in 1/s; beta in s; zeta(w) = alpha/(2 w) + beta w/2 with w = 2 pi f in rad/s")
-	comment("intervals: 95 %%; mode ci95 = Student t interval of the mean; geometric_mean_ci95 = Student t interval on log damping ratio, back-transformed; coefficient ci95 from the weighted least-squares covariance (lower ends clipped at 0); mc_ci95 = Monte Carlo over each mode's uncertainty")
-	for _, c := range Cautions() {
-		comment("caution: %s", c)
-	}
-	for _, ex := range exs {
-		comment("revision %s: %d hit(s) used, analysis version(s) %s", revName(ex.Revision), len(ex.Provenance.Hits), strings.Join(ex.Provenance.AnalysisVersions, ", "))
-		if ex.Rayleigh != nil && ex.Rayleigh.Constraint != "" {
-			comment("revision %s: %s", revName(ex.Revision), ex.Rayleigh.Constraint)
-		}
-		if ex.RayleighNote != "" {
-			comment("revision %s: %s", revName(ex.Revision), ex.RayleighNote)
-		}
-		for _, e := range ex.Provenance.Excluded {
-			comment("revision %s: excluded %d %s(s): %s", revName(ex.Revision), e.Count, e.What, e.Code)
-		}
-		for _, h := range ex.Provenance.Hits {
-			comment("revision %s hit: id %d sha256 %s analysis %s file %s", revName(ex.Revision), h.ID, h.SHA256, h.AnalysisVersion, h.File)
+	if opt.WithProvenance {
+		for _, l := range ExportProvenance(exs) {
+			bw.WriteString("# " + l + "\n")
 		}
 	}
-	cw := csv.NewWriter(bw)
+	cw := NewCSVWriter(bw, opt.CSVOptions)
+	num := cw.Num
 	if err := cw.Write(ExportCSVHeader); err != nil {
 		return err
 	}
@@ -214,18 +246,10 @@ func WriteExportCSV(w io.Writer, exs []Export) error {
 			coef("stiffness_only_beta", "beta", "s", r.Beta, r.BetaCI95, r.BetaSD, r.MCBetaCI95, r.Method)
 		}
 	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
+	if err := cw.Flush(); err != nil {
 		return err
 	}
 	return bw.Flush()
-}
-
-func num(x float64) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return ""
-	}
-	return strconv.FormatFloat(x, 'g', 6, 64)
 }
 
 // analysisVersions returns the distinct analysis versions of hits, sorted.

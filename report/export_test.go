@@ -50,7 +50,7 @@ func TestExport(t *testing.T) {
 	}
 
 	var buf bytes.Buffer
-	if err := WriteExportCSV(&buf, []Export{ex}); err != nil {
+	if err := WriteExportCSV(&buf, []Export{ex}, ExportCSVOptions{WithProvenance: true}); err != nil {
 		t.Fatal(err)
 	}
 	text := buf.String()
@@ -143,5 +143,42 @@ func TestJSONOutputs(t *testing.T) {
 		if _, ok := m[k]; !ok {
 			t.Errorf("rayleigh JSON mode lacks %q", k)
 		}
+	}
+}
+
+// TestSafeCSVCell: the cells a spreadsheet would evaluate get a leading
+// single quote, plain numbers (negative ones too) do not (the OWASP advice
+// on CSV injection: prefix cells beginning with =, +, -, @, tab or
+// carriage return with a single quote).
+func TestSafeCSVCell(t *testing.T) {
+	for in, want := range map[string]string{
+		"=cmd|' /C calc'!A0": "'=cmd|' /C calc'!A0",
+		"+1+2":               "'+1+2",
+		"-2+3":               "'-2+3",
+		"@SUM(A1:A2)":        "'@SUM(A1:A2)",
+		"\t=1":               "'\t=1",
+		"\r=1":               "'\r=1",
+		"-inf":               "'-inf",
+		"-0x1p3":             "'-0x1p3",
+		"-0.0125":            "-0.0125",
+		"+3":                 "+3",
+		"-1e-05":             "-1e-05",
+		"-0,5":               "-0,5",
+		"frame, rev 2":       "frame, rev 2",
+		"":                   "",
+		"a=b":                "a=b",
+	} {
+		if got := SafeCSVCell(in); got != want {
+			t.Errorf("SafeCSVCell(%q) = %q, want %q", in, got, want)
+		}
+	}
+	var buf bytes.Buffer
+	cw := NewCSVWriter(&buf, CSVOptions{DecimalComma: true})
+	cw.Write([]string{"=a;b", cw.Num(-0.25), cw.Num(math.NaN()), cw.Num(1234567)})
+	if err := cw.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	if got, want := buf.String(), "\"'=a;b\";-0,25;;1,23457e+06\n"; got != want {
+		t.Errorf("decimal comma row %q, want %q", got, want)
 	}
 }

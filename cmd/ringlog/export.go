@@ -3,6 +3,8 @@ package main
 import (
 	"context"
 	"fmt"
+	"io"
+	"os"
 	"time"
 
 	rpt "github.com/ringlog/ringlog/report"
@@ -16,7 +18,11 @@ func runExport(ctx context.Context, e *env, args []string) error {
 	fs := newFlags("export", "--db PATH --prototype P [--revision R] [--bay B] [--mode L] [--since DATE] [--until DATE] [--with-flagged] --format csv|json [--config FILE]", e.stderr)
 	q := addQueryFlags(fs)
 	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision)"
-	format := fs.String("format", "", "csv (one table, '# ' comment header) or json (one object per revision per line)")
+	format := fs.String("format", "", "csv (one table) or json (one object per revision per line)")
+	out := fs.String("out", "", "write the export to this file instead of standard output; with csv the provenance goes beside it, to FILE.provenance.txt")
+	provenance := fs.String("provenance", "", "csv: write the provenance (tool, time, units, cautions, hits used) to this file")
+	withProv := fs.Bool("with-provenance", false, "csv: put the provenance above the table as '# ' comment lines (a spreadsheet will not import them cleanly)")
+	decimalComma := fs.Bool("decimal-comma", false, "csv: decimal comma and ';' between cells, for spreadsheets in such locales")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -30,6 +36,12 @@ func runExport(ctx context.Context, e *env, args []string) error {
 		return usagef("--format csv or --format json is required")
 	default:
 		return usagef("--format %q: use csv or json", *format)
+	}
+	if *format == "json" && (*provenance != "" || *withProv || *decimalComma) {
+		return usagef("--provenance, --with-provenance and --decimal-comma are for --format csv (the JSON export carries its provenance)")
+	}
+	if *out != "" && *provenance == "" && *format == "csv" {
+		*provenance = *out + ".provenance.txt"
 	}
 	src, err := q.open(ctx)
 	if err != nil {
@@ -59,8 +71,50 @@ func runExport(ctx context.Context, e *env, args []string) error {
 		}
 		exs = append(exs, ex)
 	}
-	if *format == "json" {
-		return rpt.WriteExportJSON(e.stdout, exs)
+	return writeExport(e, exs, *format, *out, *provenance, rpt.ExportCSVOptions{CSVOptions: rpt.CSVOptions{DecimalComma: *decimalComma}, WithProvenance: *withProv})
+}
+
+// writeExport writes the exports to standard output or the file out, and
+// the provenance of a CSV export to the file provenance when named. A CSV
+// export to standard output without its provenance prints the cautions on
+// standard error, as every output of coefficients carries them.
+func writeExport(e *env, exs []rpt.Export, format, out, provenance string, opt rpt.ExportCSVOptions) error {
+	write := func(w io.Writer) error {
+		if format == "json" {
+			return rpt.WriteExportJSON(w, exs)
+		}
+		return rpt.WriteExportCSV(w, exs, opt)
 	}
-	return rpt.WriteExportCSV(e.stdout, exs)
+	if provenance != "" {
+		if err := writeFileWith(provenance, func(w io.Writer) error { return rpt.WriteExportProvenance(w, exs) }); err != nil {
+			return err
+		}
+	}
+	if out != "" {
+		return writeFileWith(out, write)
+	}
+	if format == "csv" && provenance == "" && !opt.WithProvenance {
+		for _, c := range rpt.Cautions() {
+			fmt.Fprintf(e.stderr, "caution: %s\n", c)
+		}
+		fmt.Fprintln(e.stderr, "(provenance: --provenance FILE, or --with-provenance for '# ' lines above the table)")
+	}
+	return write(e.stdout)
+}
+
+// writeFileWith creates path and fills it with write; an error names the
+// file.
+func writeFileWith(path string, write func(io.Writer) error) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := write(f); err != nil {
+		f.Close()
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	return nil
 }

@@ -10,7 +10,6 @@ import (
 	"io"
 	"math"
 	"slices"
-	"strconv"
 	"strings"
 
 	"github.com/ringlog/ringlog/db"
@@ -298,15 +297,6 @@ func fint(f func(float64) string, ci [2]float64) string {
 		return "-"
 	}
 	return f(ci[0]) + " .. " + f(ci[1])
-}
-
-// csvNum formats a number for CSV: 6 significant digits, empty when it
-// cannot be computed.
-func csvNum(x float64) string {
-	if math.IsNaN(x) || math.IsInf(x, 0) {
-		return ""
-	}
-	return strconv.FormatFloat(x, 'g', 6, 64)
 }
 
 func revLabel(r string) string {

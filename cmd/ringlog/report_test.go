@@ -312,7 +312,7 @@ func TestReportsEndToEnd(t *testing.T) {
 
 	// export: CSV with the comment header and coefficient rows, JSON
 	// with provenance.
-	out, errOut, code = cli(t, "export", "--db", dbPath, "--prototype", "frame", "--revision", "A", "--format", "csv")
+	out, errOut, code = cli(t, "export", "--db", dbPath, "--prototype", "frame", "--revision", "A", "--format", "csv", "--with-provenance")
 	if code != 0 {
 		t.Fatalf("export csv: exit %d: %s", code, errOut)
 	}

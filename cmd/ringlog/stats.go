@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"strconv"
@@ -21,6 +20,7 @@ func runStats(ctx context.Context, e *env, args []string) error {
 	fs.Lookup("revision").Usage = "only this revision; repeat it for several (default: every revision, one block each)"
 	asJSON := fs.Bool("json", false, "print one JSON object per revision, one per line")
 	asCSV := fs.Bool("csv", false, "print one CSV row per revision and mode")
+	decimalComma := fs.Bool("decimal-comma", false, "with --csv: decimal comma and ';' between cells, for spreadsheets in such locales")
 	rest, err := parseInterleaved(fs, args)
 	if err != nil {
 		return err
@@ -30,6 +30,9 @@ func runStats(ctx context.Context, e *env, args []string) error {
 	}
 	if *asJSON && *asCSV {
 		return usagef("--json and --csv exclude each other")
+	}
+	if *decimalComma && !*asCSV {
+		return usagef("--decimal-comma goes with --csv")
 	}
 	src, err := q.open(ctx)
 	if err != nil {
@@ -59,7 +62,7 @@ func runStats(ctx context.Context, e *env, args []string) error {
 			}
 		}
 	case *asCSV:
-		return writeStatsCSV(e.stdout, all)
+		return writeStatsCSV(e.stdout, all, rpt.CSVOptions{DecimalComma: *decimalComma})
 	default:
 		for _, rs := range all {
 			printStats(e.stdout, rs)
@@ -126,19 +129,19 @@ var statsCSVHeader = []string{"prototype", "revision", "label", "name", "label_s
 	"frequency_hz_mean", "frequency_hz_ci95_low", "frequency_hz_ci95_high", "frequency_hz_sd", "frequency_hz_cv", "frequency_hz_median",
 	"outliers", "unmatched_in_revision"}
 
-func writeStatsCSV(w io.Writer, all []rpt.RevisionStats) error {
-	cw := csv.NewWriter(w)
+func writeStatsCSV(w io.Writer, all []rpt.RevisionStats, opt rpt.CSVOptions) error {
+	cw := rpt.NewCSVWriter(w, opt)
+	num := cw.Num
 	cw.Write(statsCSVHeader)
 	for _, rs := range all {
 		for _, m := range rs.Modes {
 			d, f := m.Damping, m.Frequency
 			cw.Write([]string{rs.Prototype, rs.Revision, m.Label, m.Name, string(m.Source), strconv.Itoa(d.N),
-				csvNum(d.Mean), csvNum(d.MeanCI95[0]), csvNum(d.MeanCI95[1]), csvNum(d.SD), csvNum(d.CV), csvNum(d.Median),
-				csvNum(d.GeoMean), csvNum(d.GeoMeanCI[0]), csvNum(d.GeoMeanCI[1]), csvNum(d.BootstrapCI95[0]), csvNum(d.BootstrapCI95[1]),
-				csvNum(f.Mean), csvNum(f.MeanCI95[0]), csvNum(f.MeanCI95[1]), csvNum(f.SD), csvNum(f.CV), csvNum(f.Median),
+				num(d.Mean), num(d.MeanCI95[0]), num(d.MeanCI95[1]), num(d.SD), num(d.CV), num(d.Median),
+				num(d.GeoMean), num(d.GeoMeanCI[0]), num(d.GeoMeanCI[1]), num(d.BootstrapCI95[0]), num(d.BootstrapCI95[1]),
+				num(f.Mean), num(f.MeanCI95[0]), num(f.MeanCI95[1]), num(f.SD), num(f.CV), num(f.Median),
 				strconv.Itoa(len(m.Outliers)), strconv.Itoa(len(rs.Unmatched))})
 		}
 	}
-	cw.Flush()
-	return cw.Error()
+	return cw.Flush()
 }
