@@ -581,9 +581,135 @@ func (a *analysis) fitAndReport(cands []candidate) {
 	if fit == nil {
 		return
 	}
+	if extra := a.residualCandidates(fit, y); len(extra) > 0 {
+		// modes the first search missed (on the skirt of a strong
+		// neighbour, or under a floor raised by a dozen modes' skirts):
+		// fitted again together with the others
+		start := append(slices.Clone(fit.Components), make([]Component, 0, len(extra))...)
+		for _, c := range extra {
+			start = append(start, c.c)
+		}
+		if fit2, err := FitDecayBaseline(y, a.fs, start, a.baseline()); err == nil {
+			fit, cands = fit2, append(cands, extra...)
+		}
+	}
 	a.residualNoise(fit, y)
 	a.report(fit, cands, y)
 	a.findTransients(fit, y)
+}
+
+// splitDecay reports whether three or more components lie in a chain of
+// frequencies less than 5 % apart: the least-squares fit has split a decay
+// that is not exponential (friction, amplitude-dependent damping) into
+// close poles. Its residual is then that misfit, spread over the whole
+// spectrum, and searching it for modes would find only the misfit.
+func splitDecay(cs []Component) bool {
+	f := make([]float64, 0, len(cs))
+	for _, c := range cs {
+		if c.Omega > 0 {
+			f = append(f, c.Omega)
+		}
+	}
+	slices.Sort(f)
+	run := 1
+	for i := 1; i < len(f); i++ {
+		if f[i]-f[i-1] < 0.05*f[i-1] {
+			run++
+			if run >= 3 {
+				return true
+			}
+		} else {
+			run = 1
+		}
+	}
+	return false
+}
+
+// residualCandidates looks for modes in what the fit left: the spectrum
+// of the residual, whose floor no longer holds the skirts of the fitted
+// modes, searched with the same peak rule, and a matrix pencil in each new
+// band. A peak within three half-power bandwidths (and two resolution
+// cells), or within 5 % of its frequency, is that component's misfit
+// (a decay that is not exponential, friction or amplitude-dependent
+// damping, leaves sidebands there), not a mode: modes that close are the
+// first search's to find, as a pair of peaks. A decay that is not linear
+// (a rubbing joint) also rings at odd multiples of its frequency: a
+// candidate within 1 % of a harmonic (2 to 15) of a fitted component at
+// least 3 times stronger is that distortion, not a mode. And a candidate
+// whose decay energy is less than 100 times the noise variance at its
+// frequency (a damping ratio no better than 20 %, Cramer-Rao 2/sqrt(ENR))
+// is left out: what a misfit leaves is weak, and such a mode would be
+// dropped as too short anyway.
+// The number of components stays within maxFitComponents.
+func (a *analysis) residualCandidates(fit *Fit, y []float64) []candidate {
+	room := maxFitComponents - len(fit.Components)
+	if room <= 0 || len(y) < 256 || splitDecay(fit.Components) {
+		return nil
+	}
+	r := fit.ModelTo(make([]float64, len(y)), 0, nil, true)
+	for i := range r {
+		r[i] = y[i] - r[i]
+	}
+	ns := min(len(r), spectrumMaxLen)
+	p, binHz := decaySpectrum(r[:ns], a.fs, true)
+	res := a.fs / float64(ns)
+	near := func(f float64) bool {
+		for _, c := range fit.Components {
+			hp := math.Abs(c.Sigma) / math.Pi // half-power bandwidth, Hz
+			fc := c.Omega / (2 * math.Pi)
+			if math.Abs(fc-f) < math.Max(3*hp+2*res, 0.05*fc) {
+				return true
+			}
+		}
+		return false
+	}
+	harmonic := func(t Component) bool {
+		f := t.Omega / (2 * math.Pi)
+		for _, c := range fit.Components {
+			fc := c.Omega / (2 * math.Pi)
+			if !(math.Abs(c.Amp) >= 3*math.Abs(t.Amp)) || !(fc > 0) {
+				continue
+			}
+			if h := math.Round(f / fc); h >= 2 && h <= 15 && math.Abs(f-h*fc) < 0.01*f {
+				return true
+			}
+		}
+		return false
+	}
+	var peaks []specPeak
+	for _, pk := range spectralPeaks(p, binHz, a.opt.FMinHz, a.opt.FMaxHz) {
+		if !near(pk.f) {
+			peaks = append(peaks, pk)
+		}
+	}
+	if len(peaks) == 0 {
+		return nil
+	}
+	var out []candidate
+	for _, b := range planBands(peaks, res, room) {
+		bs := makeBandSignal(r, a.fs, b, pencilLen)
+		if len(bs.y) < pencilMinLen {
+			continue
+		}
+		comps, _, err := Subspace(bs.y, 1/bs.dt, a.subspaceNoise(b)*bs.noise)
+		if err != nil {
+			continue
+		}
+		for _, c := range comps {
+			t := bs.toTrue(c)
+			fd := t.Omega / (2 * math.Pi)
+			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz || near(fd) || !(t.Sigma > 0) || harmonic(t) {
+				continue
+			}
+			if sd := a.nm.SDAt(fd); sd > 0 && a.fs*t.Amp*t.Amp/(4*t.Sigma*sd*sd) < 100 {
+				continue
+			}
+			if len(out) < room {
+				out = append(out, candidate{c: t, band: b})
+			}
+		}
+	}
+	return out
 }
 
 // baseline is the slow part of the least-squares model: offset and a

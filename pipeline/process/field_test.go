@@ -25,7 +25,7 @@ import (
 var fieldKnownFailures = map[string]string{
 	"ac-coupling-clean":  "issue 8 item 6: the 41 Hz damping (fs 256 Hz, highpass_hz = 0.5 configured) reads 0.993 % against 1.000 %, [0.987, 0.99996] at 3.29 sigma; over 100 trials (ringlog accuracy --realistic) the bias is only +0.08 % but the scatter is 2.6 times the Cramer-Rao bound and the 95 % intervals cover 77 %: too narrow for a record whose anti-alias filter still rings (2 of 17 m/s^2 7 ms after the contact at this rate) where the fit starts",
 	"quantisation-clean": "issue 8 item 7: the noise is now the floor step/sqrt(12) = 0.0044 m/s^2, but the 410 Hz damping reads 0.00802 with a 3.29-sigma interval [0.00801, 0.00804] that misses 0.00800 (the rounding of a decay far below one step is not noise)",
-	"plate-modes-clean":  "issue 8 item 8: 3 of 12 plate modes (98, 609 and 713 Hz, 32-50 dB above the noise) are not found and no mode_limit says so; the 499 Hz damping and the 648 and 777 Hz frequencies miss their intervals",
+	"plate-modes-clean":  "issue 8 item 8: all 12 plate modes are found (a second search in the residual of the fit finds the three on the skirts of stronger neighbours), but at 45-63 dB the intervals are 0.2-0.5 % wide and four modes miss them by up to 5 sd: the 713 Hz damping reads 0.510 % against 0.500 %, the 609 Hz 0.504 %; the 713, 777 and 839 Hz frequencies are 0.04-0.06 Hz high",
 }
 
 // fieldZ is how many standard errors from its estimate the truth may lie
@@ -199,4 +199,36 @@ func reasonList(res *pipeline.Result) string {
 	}
 	sort.Strings(s)
 	return strings.Join(s, ", ")
+}
+
+// TestFieldPlateModesFound holds what plate-modes-clean already gets right
+// while its intervals are a known failure: every one of the 12 modes of the
+// simply supported plate (pipeline/synth/field, frequencies from the plate
+// formula) is found within 0.1 % of its frequency, with no reason raised
+// and no mode the plate does not have. Three of them (98, 609 and 713 Hz)
+// stand under the floor that the skirts of the others make in the first
+// search and are found in the residual of the fit.
+func TestFieldPlateModesFound(t *testing.T) {
+	c, err := field.Lookup("plate-modes-clean")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, rec := analyseFieldCase(t, c)
+	if res.Verdict != pipeline.Accepted || len(res.Reasons) > 0 {
+		t.Errorf("verdict %s with %s", res.Verdict, reasonList(res))
+	}
+	if len(res.Modes) != len(rec.Modes) {
+		t.Errorf("%d modes reported, the plate has %d", len(res.Modes), len(rec.Modes))
+	}
+	for _, tr := range rec.Modes {
+		found := false
+		for _, m := range res.Modes {
+			if math.Abs(m.FrequencyHz-tr.FrequencyHz) < 0.001*tr.FrequencyHz {
+				found = true
+			}
+		}
+		if !found {
+			t.Errorf("mode %.3f Hz not found", tr.FrequencyHz)
+		}
+	}
 }
