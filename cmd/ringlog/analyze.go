@@ -190,8 +190,22 @@ func printResult(w io.Writer, r *pipeline.Result) {
 	} else {
 		fmt.Fprintln(w, "  no mode found")
 	}
-	for _, rs := range r.Reasons {
-		fmt.Fprintf(w, "  %-6s %s: %s\n", rs.Severity, rs.Code, rs.Message)
-	}
+	printReasons(w, "  ", r.Reasons)
 	fmt.Fprintln(w)
+}
+
+// printReasons prints each reason once: a rule that names two modes (two
+// beating modes) stores the same reason for each, with the same message,
+// and the message names both.
+func printReasons(w io.Writer, indent string, reasons []pipeline.Reason) {
+	seen := map[pipeline.Reason]bool{}
+	for _, rs := range reasons {
+		key := rs
+		key.Mode = nil
+		if seen[key] {
+			continue
+		}
+		seen[key] = true
+		fmt.Fprintf(w, "%s%-6s %s: %s\n", indent, rs.Severity, rs.Code, rs.Message)
+	}
 }

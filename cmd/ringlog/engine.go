@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"os"
 	"runtime"
+	"slices"
 	"strings"
 	"sync"
 	"time"
@@ -214,7 +215,9 @@ func (e *engine) store1(ctx context.Context, o outcome) (db.Outcome, error) {
 	if len(o.res.Reasons) > 0 {
 		var codes []string
 		for _, r := range o.res.Reasons {
-			codes = append(codes, r.Code)
+			if !slices.Contains(codes, r.Code) {
+				codes = append(codes, r.Code)
+			}
 		}
 		ev = ev.Str("reasons", strings.Join(codes, ","))
 	}

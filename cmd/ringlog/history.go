@@ -151,9 +151,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 			fmt.Fprintf(e.stdout, "    %-10s %10.3f Hz  zeta %7.3f %%  [%.3f, %.3f]%s\n", label, m.FrequencyHz, 100*m.DampingRatio,
 				100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1], drop)
 		}
-		for _, rs := range r.Reasons {
-			fmt.Fprintf(e.stdout, "    %s %s: %s\n", rs.Severity, rs.Code, rs.Message)
-		}
+		printReasons(e.stdout, "    ", r.Reasons)
 	}
 	if !*asJSON {
 		fmt.Fprintf(e.stdout, "%d hit(s)\n", len(hits))
