@@ -43,3 +43,29 @@ func (db *DB) FailedFiles(ctx context.Context, limit int) ([]FailedFile, error) 
 	})
 	return out, err
 }
+
+// FailedBetween lists the files given up (state failed) whose last attempt
+// was in [since, until), oldest first: the failures of a day.
+func (db *DB) FailedBetween(ctx context.Context, since, until time.Time) ([]FailedFile, error) {
+	var out []FailedFile
+	err := db.read(ctx, "failed files of a period", func(tx *sql.Tx) error {
+		rows, err := tx.QueryContext(ctx, `
+SELECT path, last_error, attempts, updated FROM files
+WHERE state = ? AND updated >= ? AND updated < ? ORDER BY updated, id`, string(StateFailed), toNS(since), toNS(until))
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		for rows.Next() {
+			var f FailedFile
+			var t int64
+			if err := rows.Scan(&f.Path, &f.Error, &f.Attempts, &t); err != nil {
+				return err
+			}
+			f.Updated = fromNS(t)
+			out = append(out, f)
+		}
+		return rows.Err()
+	})
+	return out, err
+}

@@ -167,7 +167,7 @@ func runDaily(ctx context.Context, cfg *Config, store page.Source, log zerolog.L
 		delete(failed, key)
 		written[key] = cutoff
 		log.Info().Str("file", path).Str("day", sum.Day).Int("hits", sum.Hits).Int("flagged", sum.Flagged).
-			Int("rejected", sum.Rejected).Str("why", why).Msg("daily report written")
+			Int("rejected", sum.Rejected).Int("superseded", sum.Superseded).Int("failed", sum.Failed).Str("why", why).Msg("daily report written")
 	}
 	// today's report time, in local time
 	slot := func(t time.Time) time.Time {

@@ -99,6 +99,10 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 	}
 	fmt.Fprintf(e.stdout, "daily summary of %s: %s (%d accepted, %d flagged, %d rejected)\n  %s\n",
 		sum.Day, reportPlural(sum.Hits, "hit"), sum.Accepted, sum.Flagged, sum.Rejected, target)
+	if sum.Superseded > 0 || sum.Failed > 0 {
+		fmt.Fprintf(e.stdout, "  %s superseded by a changed file, %s given up on that day; the page lists them\n",
+			reportPlural(sum.Superseded, "earlier hit"), reportPlural(sum.Failed, "file"))
+	}
 	if sum.Unplotted > 0 {
 		fmt.Fprintf(e.stdout, "  %s of flagged or rejected hits could not be re-read; the page says why\n", reportPlural(sum.Unplotted, "file"))
 	}

@@ -172,6 +172,12 @@ func (emptyHistory) Hits(context.Context, db.Filter) ([]db.Hit, error) { return 
 func (emptyHistory) StoredFiles(context.Context, db.Filter) ([]db.StoredFile, error) {
 	return nil, nil
 }
+func (emptyHistory) SupersededBetween(context.Context, time.Time, time.Time) ([]db.SupersededHit, error) {
+	return nil, nil
+}
+func (emptyHistory) FailedBetween(context.Context, time.Time, time.Time) ([]db.FailedFile, error) {
+	return nil, nil
+}
 
 // fakeClock runs the schedule in fast-forward: every wait advances the
 // time at once; the run ends when the time passes stop.

@@ -33,6 +33,10 @@ import (
 type Source interface {
 	Hits(ctx context.Context, f db.Filter) ([]db.Hit, error)
 	StoredFiles(ctx context.Context, f db.Filter) ([]db.StoredFile, error)
+	// SupersededBetween lists the hits superseded in [since, until) by a
+	// later version of their file; FailedBetween the files given up then.
+	SupersededBetween(ctx context.Context, since, until time.Time) ([]db.SupersededHit, error)
+	FailedBetween(ctx context.Context, since, until time.Time) ([]db.FailedFile, error)
 }
 
 // DailyOptions set up a daily summary. Only Day is required.
@@ -83,6 +87,9 @@ type DailySummary struct {
 	// Plotted counts the decay plots drawn; Unplotted the flagged or
 	// rejected hits whose file was gone, changed or unreadable.
 	Plotted, Unplotted int
+	// Superseded counts the hits superseded on the day by a later version
+	// of their file; Failed the files given up on the day.
+	Superseded, Failed int
 	Bytes              int64 // size of the page written
 }
 
@@ -95,7 +102,10 @@ func DayBounds(t time.Time) (since, until time.Time) {
 }
 
 // Daily writes the daily summary of opt.Day to w: the hits of the day per
-// bay, prototype and revision; the verdict counts with the reason codes;
+// bay, prototype and revision; the verdict counts with the reason that
+// decided each spoiled hit's verdict (side flags apart) and the reason
+// codes; the hits superseded that day by a later version of their file;
+// the files given up that day with their errors;
 // per prototype and mode the damping and the frequency over the campaign
 // (every hit of the prototype up to the end of the day) with the day's
 // hits marked and the mean with its 95 % interval; the
@@ -153,7 +163,19 @@ func Daily(ctx context.Context, w io.Writer, src Source, opt DailyOptions) (Dail
 	}
 	v.Groups = groupRows(hits, loc)
 	v.Reasons = reasonRows(hits)
-	v.TopReasons = v.Reasons[:min(3, len(v.Reasons))]
+	v.Decisive, v.AlsoFlagged = decisiveRows(v.Reasons), sideRows(v.Reasons)
+	v.TopReasons = v.Decisive[:min(3, len(v.Decisive))]
+	sup, err := src.SupersededBetween(ctx, since, until)
+	if err != nil {
+		return DailySummary{}, err
+	}
+	v.Superseded = supersededRows(sup, loc)
+	failed, err := src.FailedBetween(ctx, since, until)
+	if err != nil {
+		return DailySummary{}, err
+	}
+	v.Failed = failedRows(failed, loc)
+	sum.Superseded, sum.Failed = len(v.Superseded), len(v.Failed)
 	var protos []string
 	for _, h := range hits {
 		if !slices.Contains(protos, h.Meta.Prototype) {
@@ -203,9 +225,13 @@ type dailyView struct {
 	Accepted, Flagged      int
 	Rejected               int
 	Bar                    []barPart
-	TopReasons             []reasonRow
+	TopReasons             []reasonRow // the first of Decisive
+	Decisive               []reasonRow // by hits whose verdict the code decided
+	AlsoFlagged            []reasonRow // by hits carrying the code beside the deciding one
 	Groups                 []groupRow
 	Reasons                []reasonRow
+	Superseded             []supersededRow
+	Failed                 []failedRow
 	Prototypes             []protoView
 	Spoiled                []hitCard
 	Cautions               []string
@@ -265,7 +291,11 @@ func orNone(s string) string {
 
 type reasonRow struct {
 	Code, Severity, Meaning, Example string
-	Hits, Flagged, Rejected          int
+	Hits, Flagged, Rejected          int // hits carrying the code, and of them flagged and rejected
+	// Decided counts the hits whose verdict the code decided (see
+	// decisive), DecidedFlagged and DecidedRejected by verdict; Side the
+	// hits that carry it beside the deciding reason.
+	Decided, DecidedFlagged, DecidedRejected, Side int
 }
 
 // ruleMeaning is the plain-language summary of each reason code.
@@ -279,25 +309,85 @@ var ruleMeaning = sync.OnceValue(func() map[string]string {
 	return m
 })
 
+// ruleRank is the place of each reason code in the order the quality
+// rules run (check.Describe); codes of no rule come after.
+var ruleRank = sync.OnceValue(func() map[string]int {
+	m := map[string]int{}
+	for i, r := range check.Describe() {
+		if _, ok := m[r.Code]; !ok {
+			m[r.Code] = i
+		}
+	}
+	return m
+})
+
+func rankOf(code string) int {
+	if i, ok := ruleRank()[code]; ok {
+		return i
+	}
+	return math.MaxInt
+}
+
+// decisive returns the index in r.Reasons of the reason that decided the
+// verdict of a spoiled hit, -1 for an accepted hit. For a rejected hit it
+// is its first rejecting reason in rule order (when no rule rejected it,
+// every mode was dropped: its first dropping reason); for a flagged hit
+// its first dropping reason (a mode was lost), else its first flag. Among
+// reasons of one code or of codes of no rule, the stored order decides.
+func decisive(r *pipeline.Result) int {
+	var order []pipeline.Severity
+	switch r.Verdict {
+	case pipeline.Rejected:
+		order = []pipeline.Severity{pipeline.SeverityReject, pipeline.SeverityDrop, pipeline.SeverityFlag}
+	case pipeline.Flagged:
+		order = []pipeline.Severity{pipeline.SeverityDrop, pipeline.SeverityFlag}
+	default:
+		return -1
+	}
+	for _, sev := range order {
+		best := -1
+		for i, rs := range r.Reasons {
+			if rs.Severity == sev && (best < 0 || rankOf(rs.Code) < rankOf(r.Reasons[best].Code)) {
+				best = i
+			}
+		}
+		if best >= 0 {
+			return best
+		}
+	}
+	return -1
+}
+
 // reasonRows counts, per reason code, the day's hits that carry it (once
-// per hit), split by the hit's verdict; most frequent first.
+// per hit), split by the hit's verdict, and how often it decided the
+// verdict or stood beside the deciding reason; most frequent first.
 func reasonRows(hits []db.Hit) []reasonRow {
 	idx := map[string]int{}
 	var rows []reasonRow
 	for _, h := range hits {
 		seen := map[string]bool{}
+		decided := ""
+		if d := decisive(h.Result); d >= 0 {
+			r := h.Result.Reasons[d]
+			decided = r.Code
+			i := rowOf(&rows, idx, r)
+			rows[i].Decided++
+			if h.Result.Verdict == pipeline.Rejected {
+				rows[i].DecidedRejected++
+			} else {
+				rows[i].DecidedFlagged++
+			}
+		}
 		for _, r := range h.Result.Reasons {
 			if seen[r.Code] {
 				continue
 			}
 			seen[r.Code] = true
-			i, ok := idx[r.Code]
-			if !ok {
-				i = len(rows)
-				idx[r.Code] = i
-				rows = append(rows, reasonRow{Code: r.Code, Severity: string(r.Severity), Meaning: ruleMeaning()[r.Code], Example: r.Message})
-			}
+			i := rowOf(&rows, idx, r)
 			rows[i].Hits++
+			if decided != "" && r.Code != decided {
+				rows[i].Side++
+			}
 			switch h.Result.Verdict {
 			case pipeline.Flagged:
 				rows[i].Flagged++
@@ -313,6 +403,96 @@ func reasonRows(hits []db.Hit) []reasonRow {
 		return rows[a].Code < rows[b].Code
 	})
 	return rows
+}
+
+// rowOf returns the index of the row of r's code, adding it when new.
+func rowOf(rows *[]reasonRow, idx map[string]int, r pipeline.Reason) int {
+	i, ok := idx[r.Code]
+	if !ok {
+		i = len(*rows)
+		idx[r.Code] = i
+		*rows = append(*rows, reasonRow{Code: r.Code, Severity: string(r.Severity), Meaning: ruleMeaning()[r.Code], Example: r.Message})
+	}
+	return i
+}
+
+// decisiveRows keeps the rows of codes that decided a verdict, ranked by
+// the hits they decided (one count per spoiled hit).
+func decisiveRows(rows []reasonRow) []reasonRow {
+	var out []reasonRow
+	for _, r := range rows {
+		if r.Decided > 0 {
+			out = append(out, r)
+		}
+	}
+	sort.SliceStable(out, func(a, b int) bool {
+		if out[a].Decided != out[b].Decided {
+			return out[a].Decided > out[b].Decided
+		}
+		return out[a].Code < out[b].Code
+	})
+	return out
+}
+
+// sideRows keeps the rows of codes carried beside a hit's deciding
+// reason, ranked by those hits: the side flags.
+func sideRows(rows []reasonRow) []reasonRow {
+	var out []reasonRow
+	for _, r := range rows {
+		if r.Side > 0 {
+			out = append(out, r)
+		}
+	}
+	sort.SliceStable(out, func(a, b int) bool {
+		if out[a].Side != out[b].Side {
+			return out[a].Side > out[b].Side
+		}
+		return out[a].Code < out[b].Code
+	})
+	return out
+}
+
+// supersededRow is a hit superseded on the day, with what took its place.
+type supersededRow struct {
+	File, Path, At, HitTime string
+	SHA256, BySHA256        string // the first 12 hex digits
+	Verdict, ByVerdict      string
+	ByFile                  string // the other file, when the new bytes were another's hit; "" for the same file
+}
+
+func supersededRows(sup []db.SupersededHit, loc *time.Location) []supersededRow {
+	var out []supersededRow
+	for _, s := range sup {
+		r := supersededRow{File: baseName(s.Path), Path: s.Path, At: s.SupersededAt.In(loc).Format("15:04"),
+			HitTime: s.HitTime.In(loc).Format("2006-01-02 15:04"), SHA256: short(s.SHA256), BySHA256: short(s.BySHA256),
+			Verdict: string(s.Verdict), ByVerdict: string(s.ByVerdict)}
+		if s.ByPath != s.Path {
+			r.ByFile = s.ByPath
+		}
+		out = append(out, r)
+	}
+	return out
+}
+
+func short(sha string) string { return sha[:min(12, len(sha))] }
+
+// maxFailedError bounds an error text shown on the page: a reader quotes
+// the file, and a file can hold anything.
+const maxFailedError = 400
+
+// failedRow is a file given up on the day, with its error.
+type failedRow struct {
+	File, Path, Time, Error string
+	Attempts                int
+}
+
+func failedRows(fs []db.FailedFile, loc *time.Location) []failedRow {
+	var out []failedRow
+	for _, f := range fs {
+		out = append(out, failedRow{File: baseName(f.Path), Path: f.Path, Time: f.Updated.In(loc).Format("15:04"),
+			Error: read.Clip(f.Error, maxFailedError), Attempts: f.Attempts})
+	}
+	return out
 }
 
 // protoView is one prototype's campaign on the daily page.

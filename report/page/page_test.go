@@ -549,3 +549,11 @@ func (m memSource) Hits(_ context.Context, f db.Filter) ([]db.Hit, error) {
 }
 
 func (m memSource) StoredFiles(context.Context, db.Filter) ([]db.StoredFile, error) { return nil, nil }
+
+func (m memSource) SupersededBetween(context.Context, time.Time, time.Time) ([]db.SupersededHit, error) {
+	return nil, nil
+}
+
+func (m memSource) FailedBetween(context.Context, time.Time, time.Time) ([]db.FailedFile, error) {
+	return nil, nil
+}

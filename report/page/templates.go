@@ -160,8 +160,11 @@ const dailyBody = `<header class="mast">
 </div>
 <div>
 <h2>Why hits were spoiled</h2>
-{{if .TopReasons}}<ol class="top">{{range .TopReasons}}<li><span class="count">{{.Hits}}</span> × <code>{{.Code}}</code>{{with .Meaning}}: {{.}}{{end}}</li>{{end}}</ol>
+{{if .TopReasons}}<p class="small">The reason that decided each flagged or rejected hit's verdict, one per hit.</p>
+<ol class="top">{{range .TopReasons}}<li><span class="count">{{.Decided}}</span> × <code>{{.Code}}</code>{{with .Meaning}}: {{.}}{{end}}</li>{{end}}</ol>
+{{with .AlsoFlagged}}<p class="small">Also flagged, beside the deciding reason: {{range $i, $r := .}}{{if $i}}, {{end}}<code>{{$r.Code}}</code> on {{plural $r.Side "hit"}}{{end}}.</p>{{end}}
 {{else if .Hits}}<p>No hit was flagged or rejected.</p>{{else}}<p>No hit was recorded on this day.</p>{{end}}
+{{if or .Superseded .Failed}}<p class="warn">{{with .Superseded}}<a href="#superseded">{{plural (len .) "earlier hit"}} superseded</a> by a changed file{{end}}{{if and .Superseded .Failed}} · {{end}}{{with .Failed}}<a href="#failed">{{plural (len .) "file"}} could not be read</a>{{end}}.</p>{{end}}
 {{with .Prototypes}}<p class="small">{{range $i, $p := .}}{{if $i}}; {{end}}{{$p.Name}}: {{range $j, $r := $p.Revisions}}{{if $r.Today}}{{if $j}}, {{end}}<span class="swatch {{$r.Class}}"></span>{{$r.Name}} {{$r.Today}}{{end}}{{end}}{{end}} hits.</p>{{end}}
 <p class="warn">Over-estimated damping makes a model unconservative: quote every value with its interval. <a href="#cautions">Cautions</a>.</p>
 </div>
@@ -175,12 +178,45 @@ const dailyBody = `<header class="mast">
 </table>{{else}}<p>No hit was recorded on this day.</p>{{end}}
 </section>
 
+{{if .Decisive}}<section id="decided">
+<h2>What decided the verdicts</h2>
+<p class="lede">Each flagged or rejected hit counted once, under the reason that decided its verdict: for a rejected hit its first rejecting reason in the order the rules run (when none rejected it, every mode was dropped: its first dropping reason); for a flagged hit its first reason that dropped a mode, else its first flag.</p>
+<table>
+<thead><tr><th>reason code</th><th>severity</th><th class="n">hits decided</th><th class="n">flagged</th><th class="n">rejected</th><th>what it means</th></tr></thead>
+<tbody>{{range .Decisive}}<tr><td><code>{{.Code}}</code></td><td class="sev">{{.Severity}}</td><td class="n">{{.Decided}}</td><td class="n">{{.DecidedFlagged}}</td><td class="n">{{.DecidedRejected}}</td><td>{{.Meaning}}</td></tr>{{end}}</tbody>
+</table>
+{{with .AlsoFlagged}}<h3>Also flagged</h3>
+<p class="lede">Reasons a hit carried beside the one that decided its verdict.</p>
+<table>
+<thead><tr><th>reason code</th><th>severity</th><th class="n">hits</th><th>what it means</th></tr></thead>
+<tbody>{{range .}}<tr><td><code>{{.Code}}</code></td><td class="sev">{{.Severity}}</td><td class="n">{{.Side}}</td><td>{{.Meaning}}</td></tr>{{end}}</tbody>
+</table>{{end}}
+</section>{{end}}
+
 {{if .Reasons}}<section>
 <h2>Reasons, by code</h2>
 <p class="lede">Each hit is counted once per reason code; a hit can carry several.</p>
 <table>
-<thead><tr><th>reason code</th><th>severity</th><th class="n">hits</th><th class="n">flagged</th><th class="n">rejected</th><th>what it means · an example from the day</th></tr></thead>
-<tbody>{{range .Reasons}}<tr><td><code>{{.Code}}</code></td><td class="sev">{{.Severity}}</td><td class="n">{{.Hits}}</td><td class="n">{{.Flagged}}</td><td class="n">{{.Rejected}}</td><td>{{with .Meaning}}{{.}}<br>{{end}}<span class="small">{{.Example}}</span></td></tr>{{end}}</tbody>
+<thead><tr><th>reason code</th><th>severity</th><th class="n">hits</th><th class="n">flagged</th><th class="n">rejected</th><th class="n">decided the verdict</th><th>what it means · an example from the day</th></tr></thead>
+<tbody>{{range .Reasons}}<tr><td><code>{{.Code}}</code></td><td class="sev">{{.Severity}}</td><td class="n">{{.Hits}}</td><td class="n">{{.Flagged}}</td><td class="n">{{.Rejected}}</td><td class="n">{{.Decided}}</td><td>{{with .Meaning}}{{.}}<br>{{end}}<span class="small">{{.Example}}</span></td></tr>{{end}}</tbody>
+</table>
+</section>{{end}}
+
+{{with .Superseded}}<section id="superseded">
+<h2>Superseded by a changed file</h2>
+<p class="lede">These files changed after they were recorded (appended to, rewritten or replaced under the same name). The hit of the earlier bytes is kept as provenance and no longer counted; the hit of the file's content now counts. <code>ringlog history --superseded</code> lists them.</p>
+<table>
+<thead><tr><th>file</th><th>earlier hit</th><th>its verdict</th><th>superseded at</th><th>now counted</th><th>its verdict</th></tr></thead>
+<tbody>{{range .}}<tr><td><span class="file" title="{{.Path}}">{{.File}}</span><br><span class="small">hit time {{.HitTime}}</span></td><td><code>{{.SHA256}}</code></td><td>{{.Verdict}}</td><td>{{.At}}</td><td><code>{{.BySHA256}}</code>{{with .ByFile}}<br><span class="small">the bytes of <span class="file">{{.}}</span></span>{{end}}</td><td>{{.ByVerdict}}</td></tr>{{end}}</tbody>
+</table>
+</section>{{end}}
+
+{{with .Failed}}<section id="failed">
+<h2>Files that could not be read</h2>
+<p class="lede">Given up on this day; recorded again when the file changes. <code>ringlog status --failed</code> lists every failed file of the history.</p>
+<table>
+<thead><tr><th>file</th><th>time</th><th class="n">attempts</th><th>error</th></tr></thead>
+<tbody>{{range .}}<tr><td><span class="file" title="{{.Path}}">{{.File}}</span></td><td>{{.Time}}</td><td class="n">{{.Attempts}}</td><td class="small">{{.Error}}</td></tr>{{end}}</tbody>
 </table>
 </section>{{end}}
 
