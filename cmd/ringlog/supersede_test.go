@@ -137,4 +137,22 @@ func TestIngestChangedFileSupersedes(t *testing.T) {
 	if !strings.Contains(out, "already recorded") || strings.Contains(out, "supersedes") {
 		t.Errorf("ingest of the same version:\n%s", out)
 	}
+	// The day's report names the superseded hit and a file given up.
+	bad := filepath.Join(dir, "P1_0002.csv")
+	writeFile(t, bad, []byte("force,accel\n1,2\n3,oops\n"))
+	cli(t, "ingest", "--db", dbPath, bad)
+	pagePath := filepath.Join(dir, "daily.html")
+	out, errOut, code = cli(t, "report", "daily", "--db", dbPath, "--out", pagePath)
+	if code != 0 || !strings.Contains(out, "1 earlier hit superseded by a changed file, 1 file given up") {
+		t.Fatalf("report daily: exit %d: %s%s", code, out, errOut)
+	}
+	b, err := os.ReadFile(pagePath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	page := string(b)
+	if !strings.Contains(page, `<section id="superseded">`) || !strings.Contains(page, sha256Of(first)[:12]) ||
+		!strings.Contains(page, `<section id="failed">`) || !strings.Contains(page, "P1_0002.csv") || !strings.Contains(page, "oops") {
+		t.Error("the daily report lacks the superseded hit or the failed file with its error")
+	}
 }
