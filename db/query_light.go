@@ -30,6 +30,17 @@ func (db *DB) statsHits(ctx context.Context, f Filter) ([]Hit, error) {
 			return err
 		}
 		where, args := f.where()
+		// counted first, so that the hits and their results are one
+		// allocation each, not a growing copy
+		var n int
+		if err := tx.QueryRowContext(ctx, `
+SELECT count(*) FROM hits h
+JOIN results r ON r.hit_id = h.id AND r.superseded = 0`+where, args...).Scan(&n); err != nil {
+			return err
+		}
+		if f.Limit > 0 {
+			n = min(n, f.Limit)
+		}
 		rows, err := tx.QueryContext(ctx, `
 SELECT h.id, h.sha256, h.first_path, h.prototype, h.revision, h.bay, h.point, h.direction, h.hit_time,
        r.id, r.analysis_id, r.verdict
@@ -42,12 +53,15 @@ ORDER BY h.hit_time, h.id`+f.limit(), args...)
 		defer rows.Close()
 		in := interner{}
 		// the Results live in one slice: one allocation, not one per hit
-		var results []pipeline.Result
+		hits = make([]Hit, 0, n)
+		results := make([]pipeline.Result, 0, n)
+		// scanned into once-allocated variables: Scan takes their addresses
+		var h Hit
+		var hitTime int64
+		var proto, rev, bay, point, dir, verdict string
 		for rows.Next() {
-			var h Hit
+			h = Hit{}
 			var res pipeline.Result
-			var hitTime int64
-			var proto, rev, bay, point, dir, verdict string
 			if err := rows.Scan(&h.ID, &h.SHA256, &h.Path, &proto, &rev, &bay, &point, &dir, &hitTime,
 				&h.ResultID, &h.AnalysisID, &verdict); err != nil {
 				return err
@@ -155,6 +169,9 @@ func analysisVersions(ctx context.Context, tx *sql.Tx) (map[int64]string, error)
 	return out, rows.Err()
 }
 
+// loadLightModes fills the modes of the results ids (a chunk of
+// consecutive hits). The modes of the chunk share one backing array, each
+// result's a full slice of it: one allocation per chunk, not one per hit.
 func loadLightModes(ctx context.Context, tx *sql.Tx, ids []any, byResult map[int64]*Hit, in *interner) error {
 	rows, err := tx.QueryContext(ctx, `
 SELECT result_id, idx, label, frequency_hz, damping_ratio, damping_ratio_sd, amplitude, dropped
@@ -163,29 +180,47 @@ FROM modes WHERE result_id IN (`+placeholders(len(ids))+`) ORDER BY result_id, i
 		return fmt.Errorf("modes: %w", err)
 	}
 	defer rows.Close()
+	type span struct {
+		h      *Hit
+		lo, hi int
+	}
+	buf := make([]pipeline.Mode, 0, 4*len(ids))
+	spans := make([]span, 0, len(ids))
+	// scanned into once-allocated variables: Scan takes their addresses
+	var resultID int64
+	var idx int
+	var label sql.NullString
+	var f, z, sd, amp sql.NullFloat64
+	var dropped bool
 	for rows.Next() {
-		var resultID int64
-		var idx int
-		var label sql.NullString
-		var f, z, sd, amp sql.NullFloat64
-		var m pipeline.Mode
-		if err := rows.Scan(&resultID, &idx, &label, &f, &z, &sd, &amp, &m.Dropped); err != nil {
+		if err := rows.Scan(&resultID, &idx, &label, &f, &z, &sd, &amp, &dropped); err != nil {
 			return fmt.Errorf("modes: %w", err)
 		}
 		h := byResult[resultID]
-		if h == nil || idx != len(h.Result.Modes) {
+		if h == nil {
+			return fmt.Errorf("mode of unknown result %d", resultID)
+		}
+		if n := len(spans); n == 0 || spans[n-1].h != h {
+			spans = append(spans, span{h: h, lo: len(buf)})
+		}
+		sp := &spans[len(spans)-1]
+		if idx != len(buf)-sp.lo {
 			return fmt.Errorf("result %d: mode index %d out of sequence", resultID, idx)
 		}
-		if cap(h.Result.Modes) == 0 {
-			h.Result.Modes = make([]pipeline.Mode, 0, 4)
-		}
-		m.Label = in.get(label.String)
+		m := pipeline.Mode{Label: in.get(label.String), Dropped: dropped}
 		m.FrequencyHz, m.DampingRatio, m.DampingRatioSD, m.Amplitude = orNaN(f), orNaN(z), orNaN(sd), orNaN(amp)
 		m.FrequencyCI95, m.DampingRatioCI = nanPair, nanPair
 		m.EnergyShare, m.Cycles, m.DecaySNRdB, m.Spread = nan, nan, nan, nan
-		h.Result.Modes = append(h.Result.Modes, m)
+		buf = append(buf, m)
+		sp.hi = len(buf)
 	}
-	return rows.Err()
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	for _, sp := range spans {
+		sp.h.Result.Modes = buf[sp.lo:sp.hi:sp.hi]
+	}
+	return nil
 }
 
 var (

@@ -100,7 +100,7 @@ func DampingVsLevel(id *Identified, hits []db.Hit, revision string) []LevelStat 
 		if len(obs) == 0 {
 			continue
 		}
-		ls := LevelStat{Label: l.Label, Name: l.Name(), Points: []LevelPoint{}, Groups: []LevelGroup{}, LeftOut: []LeftOut{},
+		ls := LevelStat{Label: l.Label, Name: l.Name(), Points: make([]LevelPoint, 0, len(obs)), Groups: []LevelGroup{}, LeftOut: []LeftOut{},
 			Exponent: math.NaN(), ExponentCI: nan2, PerDoubling: math.NaN(), PerDoublingCI: nan2, LevelSpan: math.NaN()}
 		force := 0
 		for _, o := range obs {

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -172,7 +173,16 @@ func (id *Identified) Revisions() []string {
 // Select returns the labelled observations of one revision and label, in
 // hit order.
 func (id *Identified) Select(revision, label string) []Observation {
-	var out []Observation
+	n := 0
+	for _, o := range id.Obs {
+		if o.Revision == revision && o.Label == label && label != "" {
+			n++
+		}
+	}
+	if n == 0 {
+		return nil
+	}
+	out := make([]Observation, 0, n)
 	for _, o := range id.Obs {
 		if o.Revision == revision && o.Label == label && label != "" {
 			out = append(out, o)
@@ -206,7 +216,16 @@ func Identify(hits []db.Hit, opt IdentifyOptions) *Identified {
 	if opt.MinShare <= 0 {
 		opt.MinShare = DefaultMinShare
 	}
-	id := &Identified{Excluded: map[string][]Exclusion{}}
+	id := &Identified{Excluded: map[string][]Exclusion{}, Hits: make([]HitRef, 0, len(hits))}
+	// one allocation for the observations: a long history has hundreds
+	// of thousands
+	nObs := 0
+	for _, h := range hits {
+		if h.Result != nil && h.Result.Verdict != pipeline.Rejected {
+			nObs += len(h.Result.Modes)
+		}
+	}
+	id.Obs = make([]Observation, 0, nObs)
 	usableHits := 0
 	for _, h := range hits {
 		if h.Result == nil {
@@ -355,19 +374,30 @@ func (id *Identified) matchExpected(exp []Expected) {
 // mode nearest the cluster median gets the label; its other modes there,
 // and any member more than two gaps from the median, stay unmatched.
 func (id *Identified) cluster(opt IdentifyOptions, usableHits int) {
-	var idx []int
+	// the unlabelled observations by frequency, ties in their order
+	type byFreq struct {
+		f float64
+		i int
+	}
+	var order []byFreq
 	for i, o := range id.Obs {
 		if o.Label == "" {
-			idx = append(idx, i)
+			order = append(order, byFreq{o.FrequencyHz, i})
 		}
 	}
-	if len(idx) == 0 {
+	if len(order) == 0 {
 		return
 	}
-	sort.SliceStable(idx, func(a, b int) bool { return id.Obs[idx[a]].FrequencyHz < id.Obs[idx[b]].FrequencyHz })
-	logf := make([]float64, len(idx))
-	for k, i := range idx {
-		logf[k] = math.Log(id.Obs[i].FrequencyHz)
+	slices.SortFunc(order, func(a, b byFreq) int {
+		if c := cmp.Compare(a.f, b.f); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.i, b.i)
+	})
+	idx := make([]int, len(order))
+	logf := make([]float64, len(order))
+	for k, o := range order {
+		idx[k], logf[k] = o.i, math.Log(o.f)
 	}
 	gap := math.Log1p(opt.ClusterGap)
 	var groups [][2]int

@@ -306,6 +306,7 @@ func modeStats(l ModeLabel, obs []Observation, byID map[int64]HitRef) ModeStat {
 				Score: math.Abs(q.x[i]-q.med) / mad, HitID: obs[i].HitID, File: obs[i].File, SHA256: obs[i].SHA256})
 		}
 	}
+	ms.Hits = make([]HitRef, 0, len(obs))
 	for _, o := range obs {
 		h, ok := byID[o.HitID]
 		if !ok {
