@@ -333,37 +333,52 @@ func (f *FolderConfig) fileMeta(path string) map[string]string {
 func defaultThresholds() check.Thresholds { return check.DefaultThresholds() }
 
 // labelModes gives modes of res the labels of the expected modes of the
-// prototype: each expected mode labels the nearest mode within its
-// tolerance (default 10 %), each label at most once per hit and each mode
-// at most one label. Modes that match none keep an empty label; the
-// statistics cluster them.
+// prototype (see labelNearest).
 func (c *Config) labelModes(prototype string, res *pipeline.Result) {
+	for _, p := range c.Prototypes {
+		if p.Name == prototype {
+			labelNearest(res, p.Modes)
+		}
+	}
+}
+
+// labelNearest gives modes of res the labels of expected: each expected
+// mode labels the nearest mode within its tolerance (default 10 %), each
+// label at most once per hit and each mode at most one label. A label
+// already on a mode (stored at ingest) wins: that mode and that label are
+// taken. Modes that match none keep an empty label; the statistics
+// cluster them.
+func labelNearest(res *pipeline.Result, expected []ModeConfig) {
 	if res == nil {
 		return
 	}
-	for _, p := range c.Prototypes {
-		if p.Name != prototype {
+	taken := make([]bool, len(res.Modes))
+	used := map[string]bool{}
+	for i, m := range res.Modes {
+		if m.Label != "" {
+			taken[i], used[m.Label] = true, true
+		}
+	}
+	for _, em := range expected {
+		if used[em.Label] {
 			continue
 		}
-		taken := make([]bool, len(res.Modes))
-		for _, em := range p.Modes {
-			tol := em.Tolerance
-			if tol <= 0 {
-				tol = 0.1
+		tol := em.Tolerance
+		if tol <= 0 {
+			tol = 0.1
+		}
+		best, bi := math.Inf(1), -1
+		for i, m := range res.Modes {
+			if taken[i] || m.Dropped {
+				continue
 			}
-			best, bi := math.Inf(1), -1
-			for i, m := range res.Modes {
-				if taken[i] || m.Dropped {
-					continue
-				}
-				if d := math.Abs(m.FrequencyHz-em.FrequencyHz) / em.FrequencyHz; d <= tol && d < best {
-					best, bi = d, i
-				}
+			if d := math.Abs(m.FrequencyHz-em.FrequencyHz) / em.FrequencyHz; d <= tol && d < best {
+				best, bi = d, i
 			}
-			if bi >= 0 {
-				taken[bi] = true
-				res.Modes[bi].Label = em.Label
-			}
+		}
+		if bi >= 0 {
+			taken[bi], used[em.Label] = true, true
+			res.Modes[bi].Label = em.Label
 		}
 	}
 }

@@ -127,7 +127,15 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(e.stderr, "no hits match these filters")
 		return nil
 	}
+	cfg, err := q.config()
+	if err != nil {
+		return err
+	}
 	for _, h := range hits {
+		if cfg != nil {
+			// The configuration's labels for modes stored without one.
+			cfg.labelModes(h.Meta.Prototype, h.Result)
+		}
 		if *asJSON {
 			writeJSONLine(e.stdout, toHitJSON(h))
 			continue

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 
+	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline/process"
 	"github.com/ringlog/ringlog/pipeline/read"
 )
@@ -56,6 +57,10 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(e.stderr, "no hits match these filters")
 		return nil
 	}
+	kept, err := storedLabels(ctx, store, f)
+	if err != nil {
+		return err
+	}
 	opt := cfg.processOptions(nil)
 	settings := settingsOf(cfg, nil)
 	done, missing, failed := 0, 0, 0
@@ -85,6 +90,10 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 			fmt.Fprintf(e.stderr, "hit %d: %v\n", sf.HitID, err)
 			continue
 		}
+		// The configuration's labels, then the labels the old result
+		// carried, each on the new mode nearest its old frequency.
+		cfg.labelModes(sf.Meta.Prototype, res)
+		labelNearest(res, kept[sf.HitID])
 		if err := store.Supersede(ctx, sf.HitID, res, settings); err != nil {
 			return err
 		}
@@ -96,4 +105,22 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 		return errReported
 	}
 	return nil
+}
+
+// storedLabels returns, per hit that f selects, the labelled modes of its
+// current result as expected modes (label, frequency, 10 % tolerance).
+func storedLabels(ctx context.Context, store *db.DB, f db.Filter) (map[int64][]ModeConfig, error) {
+	hits, err := store.Hits(ctx, f)
+	if err != nil {
+		return nil, err
+	}
+	out := map[int64][]ModeConfig{}
+	for _, h := range hits {
+		for _, m := range h.Result.Modes {
+			if m.Label != "" {
+				out[h.ID] = append(out[h.ID], ModeConfig{Label: m.Label, FrequencyHz: m.FrequencyHz, Tolerance: 0.1})
+			}
+		}
+	}
+	return out, nil
 }
