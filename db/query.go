@@ -147,9 +147,19 @@ func (db *DB) Hits(ctx context.Context, f Filter) ([]Hit, error) {
 	if f.ForStats {
 		return db.statsHits(ctx, f)
 	}
+	return db.fullHits(ctx, f, nil)
+}
+
+// fullHits is Hits with every column; with ids, only of those hits (see
+// EachHit).
+func (db *DB) fullHits(ctx context.Context, f Filter, ids []any) ([]Hit, error) {
 	var hits []Hit
 	err := db.read(ctx, "querying hits", func(tx *sql.Tx) error {
 		where, args := f.where()
+		if ids != nil {
+			where += " AND h.id IN (" + placeholders(len(ids)) + ")"
+			args = append(args, ids...)
+		}
 		rows, err := tx.QueryContext(ctx, `
 SELECT h.id, h.sha256, h.first_path, h.prototype, h.revision, h.bay, h.point, h.direction, h.hit_time, h.meta,
        h.ingested_at, r.analysis_id, r.id, r.verdict, r.file, r.format, r.channel, r.force_channel,

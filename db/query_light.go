@@ -255,3 +255,55 @@ FROM reasons WHERE result_id IN (`+placeholders(len(ids))+`) ORDER BY result_id,
 	}
 	return rows.Err()
 }
+
+// eachHitPage is how many hits EachHit holds at a time (a variable for
+// the tests).
+var eachHitPage = 1000
+
+// EachHit calls fn with each hit f selects, as Hits returns them (every
+// column; f.ForStats is ignored) and in the same order, holding a page of
+// eachHitPage hits at a time: it lists the ids of the hits in order first,
+// then reads their columns, modes, estimates and reasons a page at a time,
+// so its memory stays that of one page and the ids however long the
+// history. A page is read in a transaction of its own: a hit that is
+// superseded while the pages are read is left out of the later pages. An
+// error of fn ends the listing and is returned.
+func (db *DB) EachHit(ctx context.Context, f Filter, fn func(Hit) error) error {
+	f.ForStats = false
+	var ids []any
+	err := db.read(ctx, "listing hits", func(tx *sql.Tx) error {
+		where, args := f.where()
+		rows, err := tx.QueryContext(ctx, `
+SELECT h.id FROM hits h
+JOIN results r ON r.hit_id = h.id AND r.superseded = 0`+where+`
+ORDER BY h.hit_time, h.id`+f.limit(), args...)
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		var id int64
+		for rows.Next() {
+			if err := rows.Scan(&id); err != nil {
+				return err
+			}
+			ids = append(ids, id)
+		}
+		return rows.Err()
+	})
+	if err != nil {
+		return err
+	}
+	f.Limit = 0
+	for lo := 0; lo < len(ids); lo += eachHitPage {
+		page, err := db.fullHits(ctx, f, ids[lo:min(lo+eachHitPage, len(ids))])
+		if err != nil {
+			return err
+		}
+		for _, h := range page {
+			if err := fn(h); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}

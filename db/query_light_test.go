@@ -77,3 +77,70 @@ func TestStatsHitsMatchHits(t *testing.T) {
 		}
 	}
 }
+
+// TestEachHitMatchesHits: listing page by page gives the hits of Hits,
+// complete and in the same order, also across hits with the same time
+// and with a limit; an error of the callback ends the listing.
+func TestEachHitMatchesHits(t *testing.T) {
+	ctx := context.Background()
+	d := openTemp(t)
+	defer func(n int) { eachHitPage = n }(eachHitPage)
+	eachHitPage = 4
+	for i := range 23 {
+		path := fmt.Sprintf("/data/each-%03d.csv", i)
+		res := sampleResult(path)
+		res.Modes[0].DampingRatio *= 1 + 0.01*float64(i)
+		// three hits at a time share a hit time, stored out of order
+		meta := HitMeta{Prototype: "P", Revision: []string{"A", "B"}[i%2], HitTime: t0.Add(time.Duration((23-i)/3) * time.Minute)}
+		if _, err := d.RecordResult(ctx, fileInfo(path, path, t0), meta, res, nil); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, f := range []Filter{{}, {Limit: 10}, {Revision: "B"}, {Prototype: "none"}} {
+		want, err := d.Hits(ctx, f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got []Hit
+		if err := d.EachHit(ctx, f, func(h Hit) error { got = append(got, h); return nil }); err != nil {
+			t.Fatal(err)
+		}
+		if len(got) != len(want) {
+			t.Fatalf("filter %+v: EachHit gave %d hits, Hits %d", f, len(got), len(want))
+		}
+		for i := range want {
+			if a, b := showHit(want[i]), showHit(got[i]); a != b {
+				t.Fatalf("filter %+v, hit %d:\nHits    %s\nEachHit %s", f, i, a, b)
+			}
+		}
+	}
+	stop := fmt.Errorf("enough")
+	n := 0
+	err := d.EachHit(ctx, Filter{}, func(Hit) error {
+		if n++; n == 6 {
+			return stop
+		}
+		return nil
+	})
+	if err != stop || n != 6 {
+		t.Fatalf("after an error of the callback: %d hits, error %v", n, err)
+	}
+}
+
+// showHit prints every field of h and its result, the mode a reason
+// names by value rather than by pointer.
+func showHit(h Hit) string {
+	r := *h.Result
+	h.Result = nil
+	reasons := make([]string, len(r.Reasons))
+	for i, rs := range r.Reasons {
+		m := -1
+		if rs.Mode != nil {
+			m = *rs.Mode
+		}
+		rs.Mode = nil
+		reasons[i] = fmt.Sprintf("%+v mode %d", rs, m)
+	}
+	r.Reasons = nil
+	return fmt.Sprintf("%+v %+v %q", h, r, reasons)
+}

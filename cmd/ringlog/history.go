@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"context"
 	"errors"
 	"flag"
@@ -119,32 +120,29 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer store.Close()
-	hits, err := store.Hits(ctx, f)
-	if err != nil {
-		return err
-	}
-	if len(hits) == 0 {
-		fmt.Fprintln(e.stderr, "no hits match these filters")
-		return nil
-	}
 	cfg, err := q.config()
 	if err != nil {
 		return err
 	}
-	for _, h := range hits {
+	// hits are listed a page at a time as they are read, through a
+	// buffer: a long history is never held whole
+	out := bufio.NewWriter(e.stdout)
+	n := 0
+	err = store.EachHit(ctx, f, func(h db.Hit) error {
+		n++
 		if cfg != nil {
 			// The configuration's labels for modes stored without one.
 			cfg.labelModes(h.Meta.Prototype, h.Result)
 		}
 		if *asJSON {
-			writeJSONLine(e.stdout, toHitJSON(h))
-			continue
+			writeJSONLine(out, toHitJSON(h))
+			return nil
 		}
 		r := h.Result
-		fmt.Fprintf(e.stdout, "%s  %-8s %s/%s %s  %s\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
+		fmt.Fprintf(out, "%s  %-8s %s/%s %s  %s\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
 			orDash(h.Meta.Prototype), orDash(h.Meta.Revision), orDash(h.Meta.Bay), h.Path)
 		if h.SupersededBy != 0 {
-			fmt.Fprintf(e.stdout, "    superseded %s: the file changed, its content is now the hit with SHA-256 %.12s; not counted\n",
+			fmt.Fprintf(out, "    superseded %s: the file changed, its content is now the hit with SHA-256 %.12s; not counted\n",
 				h.SupersededAt.Local().Format("2006-01-02 15:04:05"), h.SupersededBySHA256)
 		}
 		for i, m := range r.Modes {
@@ -156,13 +154,24 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 			if m.Dropped {
 				drop = "  (dropped)"
 			}
-			fmt.Fprintf(e.stdout, "    %-10s %10.3f Hz  zeta %7.3f %%  [%.3f, %.3f]%s\n", label, m.FrequencyHz, 100*m.DampingRatio,
+			fmt.Fprintf(out, "    %-10s %10.3f Hz  zeta %7.3f %%  [%.3f, %.3f]%s\n", label, m.FrequencyHz, 100*m.DampingRatio,
 				100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1], drop)
 		}
-		printReasons(e.stdout, "    ", r.Reasons)
+		printReasons(out, "    ", r.Reasons)
+		return nil
+	})
+	if ferr := out.Flush(); err == nil {
+		err = ferr
+	}
+	if err != nil {
+		return err
+	}
+	if n == 0 {
+		fmt.Fprintln(e.stderr, "no hits match these filters")
+		return nil
 	}
 	if !*asJSON {
-		fmt.Fprintf(e.stdout, "%d hit(s)\n", len(hits))
+		fmt.Fprintf(e.stdout, "%d hit(s)\n", n)
 	}
 	return nil
 }

@@ -10,13 +10,13 @@ import (
 )
 
 // BenchmarkCatchUp measures how fast a bay catches up after an outage:
-// 1,000 results waiting in the spool are forwarded to an empty central
+// 5,000 results waiting in the spool are forwarded to an empty central
 // history on the PostgreSQL test server (RINGLOG_TEST_POSTGRES). The
 // target is 200 hits/s or more (issue 10). Run:
 //
 //	go test -run='^$' -bench=CatchUp -benchtime=1x -count=3 ./db/forward
 func BenchmarkCatchUp(b *testing.B) {
-	const n = 1000
+	const n = 5000
 	ctx := context.Background()
 	var total time.Duration
 	for i := 0; i < b.N; i++ {
