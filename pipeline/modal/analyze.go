@@ -231,9 +231,24 @@ func locateHit(x []float64, fs float64, force []float64) hit {
 				fsd = 0
 			}
 			endThr := math.Max(0.01*fp, 4*fsd)
-			j := ifp
-			for j < n && math.Abs(force[j]-fb) >= endThr {
-				j++
+			// the pulse ends where the force has come back to rest and
+			// stays there: within the threshold for twice the rise time
+			// (at least half a millisecond, and 2 samples). The anti-alias
+			// filter answers a contact shorter than a sample with ringing
+			// lobes of both signs; a fit started between two of them
+			// starts in the filter's transient, not in the free decay.
+			need := max(2*(ifp-forceTrig)+1, int(math.Ceil(0.0005*fs)), 2)
+			j, quiet := n, 0
+			for k := ifp; k < n; k++ {
+				if math.Abs(force[k]-fb) < endThr {
+					quiet++
+					if quiet >= need {
+						j = k - need + 1
+						break
+					}
+				} else {
+					quiet = 0
+				}
 			}
 			forceEnd = j
 			h.forceBase = fb
@@ -589,13 +604,64 @@ func (a *analysis) fitAndReport(cands []candidate) {
 		for _, c := range extra {
 			start = append(start, c.c)
 		}
-		if fit2, err := FitDecayBaseline(y, a.fs, start, a.baseline()); err == nil {
-			fit, cands = fit2, append(cands, extra...)
-		}
+		fit, cands = a.refitWith(fit, y, cands, extra)
 	}
 	a.residualNoise(fit, y)
 	a.report(fit, cands, y)
 	a.findTransients(fit, y)
+}
+
+// residualModeUsable reports whether a component found in the residual is
+// worth fitting: its decay energy at least 100 times the noise variance at
+// its frequency (a damping ratio known to 20 % or better, Cramer-Rao
+// 2/sqrt(ENR)), and at least 5 cycles (the default min_cycles) before its
+// envelope falls to 10 times the noise in its band, as the cross-checks
+// count them. What a misfit or coloured noise leaves in the residual is
+// weaker or shorter than that, and such a mode would be dropped anyway.
+func (a *analysis) residualModeUsable(c Component) bool {
+	fd := c.Omega / (2 * math.Pi)
+	amp := math.Abs(c.Amp)
+	if !(c.Sigma > 0) || !(fd > 0) {
+		return false
+	}
+	if sd := a.nm.SDAt(fd); sd > 0 && a.fs*amp*amp/(4*c.Sigma*sd*sd) < 100 {
+		return false
+	}
+	bw := crossBandFactor * MinBandwidth(fd, c.Sigma/math.Hypot(c.Sigma, c.Omega))
+	nb := a.nm.BandSD(math.Max(fd-bw/2, 0), fd+bw/2)
+	return nb <= 0 || (amp > 10*nb && math.Log(amp/(10*nb))/c.Sigma*fd >= 5)
+}
+
+// refitWith fits y again with the components of fit and the extra
+// candidates, and keeps the extra ones that are still usable modes with
+// their fitted values (residualModeUsable): a candidate that the joint fit
+// shrinks into the noise is dropped and the rest fitted once more. It
+// returns fit and cands unchanged when nothing is gained.
+func (a *analysis) refitWith(fit *Fit, y []float64, cands, extra []candidate) (*Fit, []candidate) {
+	for range 2 {
+		start := slices.Clone(fit.Components)
+		for _, c := range extra {
+			start = append(start, c.c)
+		}
+		fit2, err := FitDecayBaseline(y, a.fs, start, a.baseline())
+		if err != nil {
+			return fit, cands
+		}
+		var kept []candidate
+		for i, c := range extra {
+			if fc := fit2.Components[len(fit.Components)+i]; a.residualModeUsable(fc) {
+				kept = append(kept, candidate{c: fc, band: c.band})
+			}
+		}
+		if len(kept) == len(extra) {
+			return fit2, append(cands, extra...)
+		}
+		if len(kept) == 0 {
+			return fit, cands
+		}
+		extra = kept
+	}
+	return fit, cands
 }
 
 // splitDecay reports whether three or more components lie in a chain of
@@ -636,10 +702,7 @@ func splitDecay(cs []Component) bool {
 // (a rubbing joint) also rings at odd multiples of its frequency: a
 // candidate within 1 % of a harmonic (2 to 15) of a fitted component at
 // least 3 times stronger is that distortion, not a mode. And a candidate
-// whose decay energy is less than 100 times the noise variance at its
-// frequency (a damping ratio no better than 20 %, Cramer-Rao 2/sqrt(ENR))
-// is left out: what a misfit leaves is weak, and such a mode would be
-// dropped as too short anyway.
+// too weak or too short to estimate is left out (residualModeUsable).
 // The number of components stays within maxFitComponents.
 func (a *analysis) residualCandidates(fit *Fit, y []float64) []candidate {
 	room := maxFitComponents - len(fit.Components)
@@ -701,7 +764,7 @@ func (a *analysis) residualCandidates(fit *Fit, y []float64) []candidate {
 			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz || near(fd) || !(t.Sigma > 0) || harmonic(t) {
 				continue
 			}
-			if sd := a.nm.SDAt(fd); sd > 0 && a.fs*t.Amp*t.Amp/(4*t.Sigma*sd*sd) < 100 {
+			if !a.residualModeUsable(t) {
 				continue
 			}
 			if len(out) < room {

@@ -140,8 +140,9 @@ func Corpus() []Case {
 	s = base(110)
 	s.Hammer = Hammer{PeakN: 400, ContactS: ContactTime(0.2, 2e8)}
 	s.AntiAlias = AntiAlias{Order: 8, CornerHz: 0.45 * baseRate}
+	s.ADC.FullScale = 100
 	add(Case{Name: "aa-ringing-clean", Effect: "anti-alias ringing on a short force pulse", Item: 6, Clean: true, Spec: s,
-		About: "a steel tip (0.1 ms contact, shorter than a sample) through an 8th-order Butterworth at 0.45 fs: the recorded force pulse rings with negative lobes, one strike"})
+		About: "a steel tip (0.1 ms contact, shorter than a sample) through an 8th-order Butterworth at 0.45 fs: the recorded force pulse rings with negative lobes, one strike; a 100 m/s^2 range, since the sharp start of the response overshoots 45 m/s^2"})
 	s = base(111)
 	s.Hammer.SecondDelayS, s.Hammer.SecondScale = 0.012, 0.4
 	add(Case{Name: "double-strike-spoiled", Effect: "hammer bounce", Item: 6, Want: check.CodeDoubleStrike, Spec: s,
