@@ -427,11 +427,15 @@ WHERE state = 'duplicate' AND hit_id IN (`+placeholders(len(ids))+`) ORDER BY hi
 type Status struct {
 	Files     map[State]int            // files per state
 	Pending   int                      // queue length (files in state pending)
-	Hits      int                      // distinct hits
+	Hits      int                      // distinct current hits
 	Verdicts  map[pipeline.Verdict]int // hits per current verdict
 	LastHit   *LastHit                 // most recently stored hit; nil when none
 	LastError *LastError               // most recent failure not yet overcome; nil when none
 	Schema    int                      // schema version of the database
+
+	// Superseded counts the hits a later version of their file
+	// superseded: kept as provenance, not counted in Hits.
+	Superseded int
 }
 
 // LastHit describes the most recently stored hit.
@@ -463,6 +467,10 @@ func (db *DB) Status(ctx context.Context) (Status, error) {
 			return err
 		}
 		st.Pending = st.Files[StatePending]
+		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM hits WHERE superseded_by IS NOT NULL AND first_path NOT LIKE '"+SyntheticPathPrefix+"%'").
+			Scan(&st.Superseded); err != nil {
+			return err
+		}
 		if err := countInto(ctx, tx, "SELECT verdict, count(*) FROM hits WHERE first_path NOT LIKE '"+SyntheticPathPrefix+"%' AND superseded_by IS NULL GROUP BY verdict", func(k string, n int) {
 			st.Verdicts[pipeline.Verdict(k)] = n
 			st.Hits += n

@@ -76,7 +76,7 @@ func TestChangedFileSupersedes(t *testing.T) {
 		t.Errorf("StoredFiles: %d, %v; want the 2 current hits", len(sf), err)
 	}
 	st, err := d.Status(ctx)
-	if err != nil || st.Hits != 2 || st.Files[StateAnalysed] != 2 {
+	if err != nil || st.Hits != 2 || st.Superseded != 1 || st.Files[StateAnalysed] != 2 {
 		t.Errorf("status %+v, %v; want 2 hits, 2 analysed files", st, err)
 	}
 	if fs, _, _ := d.File(ctx, path); fs.HitID != o2.HitID || fs.SHA256 != v2.SHA256 || fs.Size != v2.Size {

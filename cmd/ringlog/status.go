@@ -96,7 +96,7 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 	}
 	if *asJSON {
 		out := map[string]any{
-			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "verdicts": st.Verdicts,
+			"database": path, "pending": st.Pending, "files": st.Files, "hits": st.Hits, "superseded": st.Superseded, "verdicts": st.Verdicts,
 			"daemon_running": held, "schema": st.Schema, "folders": nil,
 			// documented keys are always present, null when empty
 			"daemon_pid": nil, "daemon_since": nil, "last_hit": nil, "last_error": nil,
@@ -189,6 +189,9 @@ func printStatus(w io.Writer, st db.Status) {
 		st.Files[db.StateAnalysed], st.Files[db.StateDuplicate], st.Files[db.StateFailed], st.Files[db.StatePending])
 	fmt.Fprintf(w, "hits      %d: %d accepted, %d flagged, %d rejected\n", st.Hits,
 		st.Verdicts[pipeline.Accepted], st.Verdicts[pipeline.Flagged], st.Verdicts[pipeline.Rejected])
+	if st.Superseded > 0 {
+		fmt.Fprintf(w, "          %d earlier hit(s) superseded by a changed file, not counted (history --superseded)\n", st.Superseded)
+	}
 	if lh := st.LastHit; lh != nil {
 		fmt.Fprintf(w, "last hit  %s  %s (recorded %s)\n", lh.Path, lh.Verdict, lh.IngestedAt.Local().Format(time.DateTime))
 	}

@@ -63,6 +63,9 @@ func TestDaemonAppendedFileSupersedes(t *testing.T) {
 	if st.Hits != 2 || st.Files["analysed"] != 2 {
 		t.Errorf("status %+v; want 2 hits, 2 analysed files", st)
 	}
+	if out, _, _ := ringlog(t, "status", "--db", s.dbPath, "--json"); !strings.Contains(out, `"superseded":1,`) {
+		t.Errorf("status --json does not count the superseded hit: %s", out)
+	}
 	// With --superseded the earlier hit is listed, marked.
 	out, errOut, code := ringlog(t, "history", "--db", s.dbPath, "--superseded", "--json")
 	if code != 0 {
