@@ -42,6 +42,14 @@
 // hit, never as a second hit, so statistics do not count a hit twice.
 // Recording the same path with the same bytes again stores nothing new.
 //
+// A path has one current hit. When a path that produced a hit yields other
+// bytes (the file was appended to, rewritten or replaced), the hit of the
+// new bytes, new or existing, supersedes the hits first recorded under the
+// path (hits.superseded_by, superseded_at; migration 0002). A superseded
+// hit keeps its results as provenance; every query leaves it out unless
+// Filter.WithSuperseded asks for it. A path that holds the bytes of a hit
+// it superseded again makes that hit current again.
+//
 // # Pitfalls
 //
 // The database must be on a local disk. SQLite's WAL mode needs shared
