@@ -225,7 +225,7 @@ type dailyView struct {
 	Accepted, Flagged      int
 	Rejected               int
 	Bar                    []barPart
-	TopReasons             []reasonRow // the first of Decisive
+	TopReasons             []reasonRow // the first three of Decisive
 	Decisive               []reasonRow // by hits whose verdict the code decided
 	AlsoFlagged            []reasonRow // by hits carrying the code beside the deciding one
 	Groups                 []groupRow
