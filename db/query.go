@@ -65,6 +65,9 @@ type Hit struct {
 	SupersededBy       int64
 	SupersededBySHA256 string
 	SupersededAt       time.Time
+	// Excluded is the exclusion by hand in force ('ringlog exclude'), nil
+	// when the hit is not excluded.
+	Excluded *HandExclusion
 }
 
 // StoredFile is what a reanalysis needs to find a hit's bytes again.
@@ -204,6 +207,9 @@ ORDER BY h.hit_time, h.id`+f.limit(), args...)
 			if err := loadSuperseded(ctx, tx, hits); err != nil {
 				return err
 			}
+		}
+		if err := attachExclusions(ctx, tx, hits); err != nil {
+			return err
 		}
 		return loadDetails(ctx, tx, hits)
 	})

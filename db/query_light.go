@@ -82,7 +82,7 @@ ORDER BY h.hit_time, h.id`+f.limit(), args...)
 		for i := range hits {
 			hits[i].Result = &results[i]
 		}
-		return nil
+		return attachExclusions(ctx, tx, hits)
 	})
 	if err != nil {
 		return nil, err

@@ -39,6 +39,9 @@ type Provenance struct {
 	Hits             []HitRef    `json:"hits"`
 	AnalysisVersions []string    `json:"analysis_versions"`
 	Excluded         []Exclusion `json:"excluded"`
+	// ExcludedByHand lists the hits excluded by hand, with why, by whom
+	// and when.
+	ExcludedByHand []ExcludedHit `json:"excluded_by_hand"`
 }
 
 // Export is the exportable summary of one revision of a prototype.
@@ -94,7 +97,7 @@ func BuildExport(rs RevisionStats, opt ExportOptions) Export {
 	}
 	sort.Slice(ex.Provenance.Hits, func(a, b int) bool { return ex.Provenance.Hits[a].ID < ex.Provenance.Hits[b].ID })
 	ex.Provenance.AnalysisVersions = analysisVersions(ex.Provenance.Hits)
-	ex.Provenance.Excluded = rs.Excluded
+	ex.Provenance.Excluded, ex.Provenance.ExcludedByHand = rs.Excluded, rs.ExcludedByHand
 	rep, err := RayleighFor(rs, nil, opt.Rayleigh)
 	switch {
 	case err == nil:
@@ -184,6 +187,10 @@ func ExportProvenance(exs []Export) []string {
 		}
 		for _, e := range ex.Provenance.Excluded {
 			line("revision %s: excluded %d %s(s): %s", revName(ex.Revision), e.Count, e.What, e.Code)
+		}
+		for _, x := range ex.Provenance.ExcludedByHand {
+			line("revision %s: excluded by hand: hit %d sha256 %s file %s by %s at %s: %s", revName(ex.Revision), x.HitID, x.SHA256, x.File,
+				x.By, x.At.UTC().Format(time.RFC3339), x.Why)
 		}
 		for _, h := range ex.Provenance.Hits {
 			line("revision %s hit: id %d sha256 %s analysis %s file %s", revName(ex.Revision), h.ID, h.SHA256, h.AnalysisVersion, h.File)

@@ -11,6 +11,7 @@ import (
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/check"
 	"github.com/ringlog/ringlog/pipeline/robust"
 )
 
@@ -50,6 +51,7 @@ const (
 const (
 	CodeAllModesDropped = "all_modes_dropped" // rejected because every mode was dropped
 	CodeNoEstimate      = "no_estimate"       // a mode without a usable frequency or damping ratio
+	CodeExcludedByHand  = "excluded_by_hand"  // a hit left out with 'ringlog exclude'
 )
 
 // IdentifyOptions tune Identify. The zero value uses the defaults.
@@ -69,8 +71,7 @@ type IdentifyOptions struct {
 	WithFlagged bool
 }
 
-// Observation is one usable mode of one hit: a mode that was not dropped,
-// of a hit that was accepted or flagged.
+// Observation is one mode that counts: see Identify.
 type Observation struct {
 	HitID           int64       `json:"hit_id"`
 	SHA256          string      `json:"sha256"`
@@ -115,10 +116,22 @@ func fmtHz(f float64) string {
 type Exclusion struct {
 	Code string `json:"code"`
 	// What is "hit" for rejected hits (counted once per hit and reason
-	// code) and "mode" for dropped or unusable modes of kept hits.
+	// code) and hits excluded by hand, "mode" for dropped, doubted or
+	// unusable modes of kept hits.
 	What  string   `json:"what"`
 	Count int      `json:"count"`
 	Files []string `json:"files"`
+}
+
+// ExcludedHit is a hit left out by hand, with the analyst's reason.
+type ExcludedHit struct {
+	HitID    int64     `json:"hit_id"`
+	SHA256   string    `json:"sha256"`
+	File     string    `json:"file"`
+	Revision string    `json:"revision"`
+	Why      string    `json:"why"`
+	By       string    `json:"by"`
+	At       time.Time `json:"at"`
 }
 
 // HitRef identifies a hit used by a report: its provenance.
@@ -143,9 +156,11 @@ type Identified struct {
 	// Hits are the hits of the history that were looked at, usable or
 	// rejected, in the order given.
 	Hits []HitRef
-	// Excluded counts, per revision, the rejected hits and the dropped
-	// or unusable modes by reason code.
+	// Excluded counts, per revision, the rejected hits, the hits excluded
+	// by hand and the dropped, doubted or unusable modes by reason code.
 	Excluded map[string][]Exclusion
+	// ByHand lists, per revision, the hits excluded by hand.
+	ByHand map[string][]ExcludedHit
 }
 
 // Label returns the mode labelled l.
@@ -202,7 +217,16 @@ func (id *Identified) Unmatched(revision string) []Observation {
 	return out
 }
 
-// Identify labels every usable mode of hits. Hits should be of one
+// Identify decides which modes count and labels them. A mode counts when
+// its hit is not rejected and not excluded by hand, the mode is not
+// dropped, its frequency and damping ratio are usable, and no flag whose
+// check.Effect doubts the value names it (a flag without a mode index names
+// every mode of its hit); with opt.WithFlagged the doubted modes count too.
+// What does not count is in Excluded, by reason code: a rejected hit under
+// each rejecting code, a hit excluded by hand under excluded_by_hand (and
+// in ByHand), a mode under the code that dropped or first doubted it.
+//
+// Identify labels every mode that counts. Hits should be of one
 // prototype; pass every revision that is to be compared at once, so that a
 // label names the same mode in each. Labels stored with a mode win; then
 // the nearest expected mode within its tolerance (each label used at most
@@ -216,7 +240,7 @@ func Identify(hits []db.Hit, opt IdentifyOptions) *Identified {
 	if opt.MinShare <= 0 {
 		opt.MinShare = DefaultMinShare
 	}
-	id := &Identified{Excluded: map[string][]Exclusion{}, Hits: make([]HitRef, 0, len(hits))}
+	id := &Identified{Excluded: map[string][]Exclusion{}, ByHand: map[string][]ExcludedHit{}, Hits: make([]HitRef, 0, len(hits))}
 	// one allocation for the observations: a long history has hundreds
 	// of thousands
 	nObs := 0
@@ -249,6 +273,12 @@ func Identify(hits []db.Hit, opt IdentifyOptions) *Identified {
 			}
 			continue
 		}
+		if x := h.Excluded; x != nil {
+			id.exclude(rev, CodeExcludedByHand, "hit", h.Path)
+			id.ByHand[rev] = append(id.ByHand[rev], ExcludedHit{HitID: h.ID, SHA256: h.SHA256, File: h.Path, Revision: rev,
+				Why: x.Why, By: x.By, At: x.At})
+			continue
+		}
 		usable := false
 		for i, m := range r.Modes {
 			if m.Dropped {
@@ -267,6 +297,10 @@ func Identify(hits []db.Hit, opt IdentifyOptions) *Identified {
 			}
 			if !(m.FrequencyHz > 0) || math.IsInf(m.FrequencyHz, 0) || !(m.DampingRatio > 0 && m.DampingRatio < 1) {
 				id.exclude(rev, CodeNoEstimate, "mode", h.Path)
+				continue
+			}
+			if code := doubtingFlag(r.Reasons, i); code != "" && !opt.WithFlagged {
+				id.exclude(rev, code, "mode", h.Path)
 				continue
 			}
 			usable = true
@@ -291,6 +325,33 @@ func Identify(hits []db.Hit, opt IdentifyOptions) *Identified {
 	}
 	id.collectLabels(opt.Expected)
 	return id
+}
+
+// excluded returns Excluded[rev], never nil.
+func (id *Identified) excluded(rev string) []Exclusion {
+	if x := id.Excluded[rev]; x != nil {
+		return x
+	}
+	return []Exclusion{}
+}
+
+// byHand returns ByHand[rev], never nil.
+func (id *Identified) byHand(rev string) []ExcludedHit {
+	if x := id.ByHand[rev]; x != nil {
+		return x
+	}
+	return []ExcludedHit{}
+}
+
+// doubtingFlag returns the code of the first flag that doubts the value of
+// mode i (naming it, or naming no mode), "" when none does.
+func doubtingFlag(reasons []pipeline.Reason, i int) string {
+	for _, rs := range reasons {
+		if rs.Severity == pipeline.SeverityFlag && (rs.Mode == nil || *rs.Mode == i) && check.Effect(rs.Code) == check.Doubts {
+			return rs.Code
+		}
+	}
+	return ""
 }
 
 func (id *Identified) exclude(rev, code, what, file string) {

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -8,6 +9,7 @@ import (
 
 	"github.com/ringlog/ringlog/db"
 	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/check"
 )
 
 // campaign is an invented campaign of revision "A": n hits with modes near
@@ -145,5 +147,62 @@ func TestIdentifyExpected(t *testing.T) {
 	b, _ := id.Label("bend")
 	if b.NominalHz != 170 || b.Tolerance != DefaultTolerance || b.Source != SourceConfig {
 		t.Errorf("bend: %+v", b)
+	}
+}
+
+// TestIdentifyWhatCounts: a mode named by a doubting flag, every mode of
+// a hit with a doubting flag that names no mode, and every mode of a hit
+// excluded by hand are left out and counted by reason; an informing flag
+// leaves the values in; WithFlagged counts the doubted modes again but
+// never the hits excluded by hand.
+func TestIdentifyWhatCounts(t *testing.T) {
+	hits := campaign(10)
+	flag := func(h *db.Hit, code string, m *int) {
+		h.Result.Verdict = pipeline.Flagged
+		h.Result.Reasons = append(h.Result.Reasons, pipeline.Reason{Code: code, Severity: pipeline.SeverityFlag, Mode: m})
+	}
+	flag(&hits[1], check.CodeBeatingModes, pipeline.ModeRef(1)) // doubts mode 1 (m2) only
+	flag(&hits[2], check.CodeTransient, nil)                    // doubts every mode of hit 2
+	flag(&hits[3], check.CodeModeLimit, nil)                    // informs: all count
+	flag(&hits[4], check.CodeAmplitudeDamping, pipeline.ModeRef(0))
+	flag(&hits[5], check.CodeEstimatesApart, pipeline.ModeRef(2)) // doubts m3, then beating names it too:
+	flag(&hits[5], check.CodeBeatingModes, pipeline.ModeRef(2))   // counted once, under the first
+	at := t0.Add(48 * time.Hour)
+	hits[6].Excluded = &db.HandExclusion{HitID: hits[6].ID, Why: "sensor cable loose", By: "anna", At: at}
+
+	count := func(id *Identified) map[string]int {
+		got := map[string]int{}
+		for _, e := range id.Excluded["A"] {
+			got[e.What+"/"+e.Code] = e.Count
+		}
+		return got
+	}
+	perLabel := func(id *Identified) string {
+		return fmt.Sprintf("%d,%d,%d", len(id.Select("A", "m1")), len(id.Select("A", "m2")), len(id.Select("A", "m3")))
+	}
+
+	id := Identify(hits, IdentifyOptions{})
+	// 10 hits: hit 6 out; m1 loses hit 2; m2 loses hits 1, 2; m3 loses 2, 5.
+	if got := perLabel(id); got != "8,7,7" {
+		t.Errorf("modes counted per label %s, want 8,7,7", got)
+	}
+	want := map[string]int{"hit/excluded_by_hand": 1, "mode/beating_modes": 1, "mode/transient_in_decay": 3, "mode/estimates_disagree": 1}
+	if got := count(id); fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Errorf("left out %v, want %v", got, want)
+	}
+	if bh := id.ByHand["A"]; len(bh) != 1 || bh[0].HitID != hits[6].ID || bh[0].Why != "sensor cable loose" || bh[0].By != "anna" || !bh[0].At.Equal(at) {
+		t.Errorf("by hand: %+v", bh)
+	}
+	st := Stats(id)
+	if st[0].HitsSeen != 10 || st[0].HitsUsed != 8 || len(st[0].ExcludedByHand) != 1 {
+		t.Errorf("stats: seen %d, used %d, by hand %+v", st[0].HitsSeen, st[0].HitsUsed, st[0].ExcludedByHand)
+	}
+
+	wf := Identify(hits, IdentifyOptions{WithFlagged: true})
+	if got := perLabel(wf); got != "9,9,9" {
+		t.Errorf("with flagged: modes counted per label %s, want 9,9,9", got)
+	}
+	if got := count(wf); fmt.Sprint(got) != fmt.Sprint(map[string]int{"hit/excluded_by_hand": 1}) {
+		t.Errorf("with flagged: left out %v", got)
 	}
 }

@@ -439,6 +439,9 @@ type RayleighReport struct {
 	// damping ratios given without an uncertainty ([] when none).
 	Warnings []string `json:"warnings"`
 	Cautions []string `json:"cautions"`
+	// Excluded and ExcludedByHand: what was left out (see RevisionStats).
+	Excluded       []Exclusion   `json:"excluded"`
+	ExcludedByHand []ExcludedHit `json:"excluded_by_hand"`
 	// Hits are the hits used (provenance).
 	Hits []HitRef `json:"-"`
 }
@@ -456,7 +459,8 @@ var ErrNoModes = errors.New("too few modes")
 // RayleighFor fits the modes of one revision's statistics: those labelled
 // in labels, or all when labels is empty.
 func RayleighFor(rs RevisionStats, labels []string, opt RayleighOptions) (RayleighReport, error) {
-	rep := RayleighReport{Prototype: rs.Prototype, Revision: rs.Revision, Units: rayleighUnits(), Cautions: Cautions()}
+	rep := RayleighReport{Prototype: rs.Prototype, Revision: rs.Revision, Units: rayleighUnits(), Cautions: Cautions(),
+		Excluded: rs.Excluded, ExcludedByHand: rs.ExcludedByHand}
 	var modes []RayleighMode
 	hits := map[int64]bool{}
 	for _, ms := range rs.Modes {

@@ -31,7 +31,7 @@ type KnownMode struct {
 // hit-to-hit scatter. Either every mode has an SD or none has. The report
 // has no prototype, revision or hits (NHits 0, each mode's N 0).
 func RayleighKnown(known []KnownMode, opt RayleighOptions) (RayleighReport, error) {
-	rep := RayleighReport{Units: rayleighUnits(), Cautions: Cautions(), Warnings: []string{}}
+	rep := RayleighReport{Units: rayleighUnits(), Cautions: Cautions(), Warnings: []string{}, Excluded: []Exclusion{}, ExcludedByHand: []ExcludedHit{}}
 	withSD := 0
 	for _, k := range known {
 		if k.SD != 0 {

@@ -228,7 +228,11 @@ type RevisionStats struct {
 	HitsUsed  int           `json:"hits_used"`
 	Modes     []ModeStat    `json:"modes"`
 	Unmatched []Observation `json:"unmatched"`
-	Excluded  []Exclusion   `json:"excluded"`
+	// Excluded counts what was left out, by reason (see Identify);
+	// ExcludedByHand lists the hits excluded by hand with why, by whom and
+	// when.
+	Excluded       []Exclusion   `json:"excluded"`
+	ExcludedByHand []ExcludedHit `json:"excluded_by_hand"`
 	// DampingVsLevel is filled by callers that have the hits
 	// (DampingVsLevel): per mode, damping against the excitation level.
 	DampingVsLevel []LevelStat `json:"damping_vs_level"`
@@ -243,7 +247,7 @@ func Stats(id *Identified) []RevisionStats {
 		hitIndex[h.ID] = h
 	}
 	for _, rev := range id.Revisions() {
-		rs := RevisionStats{Revision: rev, Unmatched: id.Unmatched(rev), Excluded: id.Excluded[rev]}
+		rs := RevisionStats{Revision: rev, Unmatched: id.Unmatched(rev), Excluded: id.excluded(rev), ExcludedByHand: id.byHand(rev)}
 		used := map[int64]bool{}
 		for _, h := range id.Hits {
 			if h.Revision == rev {

@@ -163,6 +163,9 @@ type RevisionTrend struct {
 	Revision  string      `json:"revision"`
 	Modes     []ModeTrend `json:"modes"`
 	Warnings  []string    `json:"warnings"`
+	// Excluded and ExcludedByHand: what was left out (see RevisionStats).
+	Excluded       []Exclusion   `json:"excluded"`
+	ExcludedByHand []ExcludedHit `json:"excluded_by_hand"`
 }
 
 // Trends computes the trend of every mode of every revision of id.
@@ -202,7 +205,7 @@ func Trends(id *Identified) []RevisionTrend {
 	wg.Wait()
 	out := make([]RevisionTrend, len(revs))
 	for ri, rev := range revs {
-		out[ri] = RevisionTrend{Revision: rev, Modes: []ModeTrend{}, Warnings: []string{}}
+		out[ri] = RevisionTrend{Revision: rev, Modes: []ModeTrend{}, Warnings: []string{}, Excluded: id.excluded(rev), ExcludedByHand: id.byHand(rev)}
 	}
 	for _, j := range jobs {
 		rt, mt := &out[j.rev], results[j.at]

@@ -35,6 +35,9 @@ func runRules(ctx context.Context, e *env, args []string) error {
 		}
 		effective = thresholdValues(cfg.Thresholds)
 	}
+	if !*asJSON {
+		fmt.Fprintf(e.stdout, "%-20s %-7s %-8s %s\n", "code", "does", "effect", "meaning")
+	}
 	for _, r := range check.Describe() {
 		if *asJSON {
 			// The rule's own keys, plus "defaults" and "effective" (the
@@ -50,15 +53,18 @@ func runRules(ctx context.Context, e *env, args []string) error {
 			writeJSONLine(e.stdout, obj)
 			continue
 		}
-		fmt.Fprintf(e.stdout, "%-20s %-7s %s\n", r.Code, r.Severity, r.Summary)
+		fmt.Fprintf(e.stdout, "%-20s %-7s %-8s %s\n", r.Code, r.Severity, r.Effect, r.Summary)
 		for _, n := range r.Thresholds {
 			d, eff := formatThreshold(defaults[n]), formatThreshold(effective[n])
 			if *cfgPath != "" && eff != d {
-				fmt.Fprintf(e.stdout, "%-28s %s = %s (default %s)\n", "", n, eff, d)
+				fmt.Fprintf(e.stdout, "%-37s %s = %s (default %s)\n", "", n, eff, d)
 			} else {
-				fmt.Fprintf(e.stdout, "%-28s %s = %s\n", "", n, d)
+				fmt.Fprintf(e.stdout, "%-37s %s = %s\n", "", n, d)
 			}
 		}
+	}
+	if !*asJSON {
+		fmt.Fprintln(e.stdout, "\neffect: doubts = the history's statistics leave out the modes it names (every mode of the hit when it names none) unless --with-flagged; informs = side information, the values count")
 	}
 	return nil
 }

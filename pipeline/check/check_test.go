@@ -134,7 +134,9 @@ func TestDescribe(t *testing.T) {
 			t.Errorf("code %q described twice", ri.Code)
 		}
 		seen[ri.Code] = true
-		if ri.Summary == "" || ri.Severity == "" || len(ri.Thresholds) == 0 {
+		// hit_time_in_future is given where hits are recorded, by a fixed
+		// allowance for clocks, not by a rule with thresholds.
+		if ri.Summary == "" || ri.Severity == "" || ri.Thresholds == nil || (len(ri.Thresholds) == 0 && ri.Code != CodeFutureHitTime) {
 			t.Errorf("code %q: incomplete description %+v", ri.Code, ri)
 		}
 		if ri.Code != strings.ToLower(ri.Code) || strings.ContainsAny(ri.Code, " -") {
@@ -153,10 +155,31 @@ func TestDescribe(t *testing.T) {
 		}
 	}
 	for _, c := range []string{CodeClipped, CodeDoubleStrike, CodePreRinging, CodeNoLeadIn, CodeNoDecay, CodeUnderExcited,
-		CodeShortDecay, CodeMixedModes, CodeBeatingModes, CodeFrictionDecay, CodeDampingDrift, CodeEstimatesApart} {
+		CodeShortDecay, CodeMixedModes, CodeBeatingModes, CodeFrictionDecay, CodeDampingDrift, CodeEstimatesApart,
+		CodeTransient, CodeModeLimit, CodeAmplitudeDamping, CodeFutureHitTime} {
 		if !seen[c] {
 			t.Errorf("code %q not described", c)
 		}
+	}
+	// Every code has an effect of its own (not the default for unknown
+	// codes), every classified code is described, and a code that rejects
+	// a hit or drops a mode doubts.
+	for _, ri := range Describe() {
+		e, ok := effects[ri.Code]
+		if !ok || ri.Effect != e {
+			t.Errorf("code %q: effect %q, classified %v", ri.Code, ri.Effect, ok)
+		}
+		if ri.Severity != pipeline.SeverityFlag && e != Doubts {
+			t.Errorf("code %q (%s) informs only", ri.Code, ri.Severity)
+		}
+	}
+	for c := range effects {
+		if !seen[c] {
+			t.Errorf("classified code %q is not described", c)
+		}
+	}
+	if Effect("made_up_code") != Doubts || Effect(CodeBeatingModes) != Doubts || Effect(CodeModeLimit) != Informs {
+		t.Error("Effect: unknown codes doubt, beating_modes doubts, mode_limit informs")
 	}
 	for _, r := range Rules() {
 		if !seen[r.Code()] {

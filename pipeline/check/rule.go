@@ -20,7 +20,76 @@ const (
 	CodeEstimatesApart = "estimates_disagree" // flag: estimators give different damping
 	CodeTransient      = "transient_in_decay" // flag: a burst in the residual of the fitted decay
 	CodeModeLimit      = "mode_limit"         // flag: more modes above the noise than reported
+	// CodeFutureHitTime is given where hits are recorded, not by a rule of
+	// this package: the hit time lies ahead of the computer's clock.
+	CodeFutureHitTime = "hit_time_in_future" // flag: hit time in the future
 )
+
+// ValueEffect says what a reason code means for the values it names: does
+// a statistic count them?
+type ValueEffect string
+
+// Value effects.
+const (
+	// Doubts: the value is questionable; the history's statistics leave
+	// out the modes the reason names (every mode of the hit when it names
+	// none) unless asked to count flagged modes too.
+	Doubts ValueEffect = "doubts"
+	// Informs: side information; the values count.
+	Informs ValueEffect = "informs"
+)
+
+// effects classifies every reason code. Rejecting and dropping codes doubt
+// trivially: their hit or mode is out whatever the effect says. Of the
+// flags:
+//   - mixed_modes, beating_modes: the fitted decay holds another mode's
+//     energy, which biases the damping ratio (beating modulates the
+//     envelope; mixed modes pull the single-mode fit).
+//   - friction_decay, damping_drift: the decay is not viscous, so one
+//     viscous damping ratio does not describe it; its value depends on the
+//     part of the decay fitted.
+//   - estimates_disagree: independent estimators give different damping;
+//     which is right is not known.
+//   - transient_in_decay: a burst (a knock, a second touch) spoils part of
+//     the decay the fit used.
+//   - no_lead_in: informs. The record has no quiet lead-in, so a structure
+//     already ringing cannot be detected; nothing says the value is wrong,
+//     and a recorder set up without pre-trigger would otherwise leave every
+//     one of its hits out of every statistic.
+//   - mode_limit: informs. More modes stand above the noise than are
+//     reported; the reported modes' values are not touched.
+//   - amplitude_damping: informs. The damping ratio changes with the
+//     amplitude along the decay: a property of the structure (stats shows
+//     damping against the excitation level), not a fault of the value.
+//   - hit_time_in_future: informs. The clock is wrong, not the numbers.
+var effects = map[string]ValueEffect{
+	CodeClipped:          Doubts,
+	CodeDoubleStrike:     Doubts,
+	CodePreRinging:       Doubts,
+	CodeNoDecay:          Doubts,
+	CodeUnderExcited:     Doubts,
+	CodeShortDecay:       Doubts,
+	CodeMixedModes:       Doubts,
+	CodeBeatingModes:     Doubts,
+	CodeFrictionDecay:    Doubts,
+	CodeDampingDrift:     Doubts,
+	CodeEstimatesApart:   Doubts,
+	CodeTransient:        Doubts,
+	CodeNoLeadIn:         Informs,
+	CodeModeLimit:        Informs,
+	CodeAmplitudeDamping: Informs,
+	CodeFutureHitTime:    Informs,
+}
+
+// Effect returns what reason code does to the values it names. A code this
+// build does not know (stored by another version) doubts: a statistic
+// counts only what is known to be sound.
+func Effect(code string) ValueEffect {
+	if e, ok := effects[code]; ok {
+		return e
+	}
+	return Doubts
+}
 
 // Rule is one quality check.
 type Rule interface {
@@ -37,6 +106,7 @@ type Rule interface {
 type RuleInfo struct {
 	Code       string            `json:"code"`
 	Severity   pipeline.Severity `json:"severity"`
+	Effect     ValueEffect       `json:"effect"`     // doubts or informs the values named
 	Summary    string            `json:"summary"`    // one line, plain language
 	Thresholds []string          `json:"thresholds"` // configuration keys of Thresholds it uses
 }
@@ -96,13 +166,20 @@ func Run(in Input, th Thresholds) []pipeline.Reason {
 }
 
 // Describe lists every reason code the default rules can give, in rule
-// order.
+// order, each with its Effect, then the codes given where hits are
+// recorded (hit_time_in_future).
 func Describe() []RuleInfo {
 	var out []RuleInfo
 	for _, r := range Rules() {
 		if d, ok := r.(Describer); ok {
 			out = append(out, d.Info()...)
 		}
+	}
+	out = append(out, RuleInfo{Code: CodeFutureHitTime, Severity: pipeline.SeverityFlag,
+		Summary:    "the hit time lies more than a few minutes ahead of the computer's clock (recorder clock or hit_time metadata wrong)",
+		Thresholds: []string{}})
+	for i := range out {
+		out[i].Effect = Effect(out[i].Code)
 	}
 	return out
 }
