@@ -19,6 +19,10 @@ type compareJSON struct {
 	RevisionA string               `json:"revision_a"`
 	RevisionB string               `json:"revision_b"`
 	Modes     []rpt.ModeComparison `json:"modes"`
+	// Excluded counts what was left out, per revision, by reason;
+	// ExcludedByHand lists the hits of either revision excluded by hand.
+	Excluded       map[string][]rpt.Exclusion `json:"excluded"`
+	ExcludedByHand []rpt.ExcludedHit          `json:"excluded_by_hand"`
 }
 
 func runCompare(ctx context.Context, e *env, args []string) error {
@@ -69,17 +73,24 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		return nil
 	}
 	cs := keepCompared(rpt.Compare(id, a, b), q.modes)
-	if *asJSON {
-		if cs == nil {
-			cs = []rpt.ModeComparison{}
-		}
-		return writeReportJSON(e.stdout, compareJSON{Prototype: src.prototype, RevisionA: a, RevisionB: b, Modes: cs})
+	out := compareJSON{Prototype: src.prototype, RevisionA: a, RevisionB: b, Modes: cs, Excluded: map[string][]rpt.Exclusion{},
+		ExcludedByHand: []rpt.ExcludedHit{}}
+	for _, rs := range rpt.Stats(id) {
+		out.Excluded[rs.Revision] = rs.Excluded
+		out.ExcludedByHand = append(out.ExcludedByHand, rs.ExcludedByHand...)
 	}
-	printCompare(e.stdout, src.prototype, a, b, cs)
+	if *asJSON {
+		if out.Modes == nil {
+			out.Modes = []rpt.ModeComparison{}
+		}
+		return writeReportJSON(e.stdout, out)
+	}
+	printCompare(e.stdout, out)
 	return nil
 }
 
-func printCompare(w io.Writer, proto, a, b string, cs []rpt.ModeComparison) {
+func printCompare(w io.Writer, cj compareJSON) {
+	proto, a, b, cs := cj.Prototype, cj.RevisionA, cj.RevisionB, cj.Modes
 	fmt.Fprintf(w, "prototype %s: revision %s against %s\n", proto, b, a)
 	if len(cs) == 0 {
 		fmt.Fprintln(w, "  no usable mode in either revision")
@@ -91,6 +102,18 @@ func printCompare(w io.Writer, proto, a, b string, cs []rpt.ModeComparison) {
 				fpct(c.GeoMeanA), a, c.NA, fpct(c.GeoMeanB), b, c.NB, fnum("%.3f", c.Ratio),
 				fint(func(x float64) string { return fnum("%.3f", x) }, c.RatioCI95), pvalue(c.P))
 			fmt.Fprintf(w, "    %s\n", c.FrequencySentence)
+		}
+	}
+	for _, r := range []string{a, b} {
+		var byHand []rpt.ExcludedHit
+		for _, h := range cj.ExcludedByHand {
+			if h.Revision == r {
+				byHand = append(byHand, h)
+			}
+		}
+		if len(cj.Excluded[r]) > 0 {
+			fmt.Fprintf(w, "\n  revision %s:\n", revLabel(r))
+			printLeftOut(w, "    ", cj.Excluded[r], byHand)
 		}
 	}
 	fmt.Fprintln(w, "\n  (Welch's t test on log damping ratio: the ratio is of geometric means; intervals 95 %)")

@@ -61,6 +61,7 @@ func openExistingWritable(ctx context.Context, path string) (*db.DB, error) {
 // hitJSON is one line of 'history --json'. The keys file, sha256,
 // verdict, prototype, revision and modes are a contract.
 type hitJSON struct {
+	ID        int64             `json:"id"`
 	File      string            `json:"file"`
 	SHA256    string            `json:"sha256"`
 	Verdict   pipeline.Verdict  `json:"verdict"`
@@ -80,6 +81,8 @@ type hitJSON struct {
 	// version of its file superseded (history --superseded), by what and
 	// when.
 	Superseded *supersededJSON `json:"superseded"`
+	// Excluded is the exclusion by hand in force, null when none.
+	Excluded *exclusionJSON `json:"excluded"`
 }
 
 // supersededJSON tells what superseded a hit: the SHA-256 of the file's
@@ -87,6 +90,13 @@ type hitJSON struct {
 type supersededJSON struct {
 	BySHA256 string    `json:"by_sha256"`
 	At       time.Time `json:"at"`
+}
+
+// exclusionJSON is a hand exclusion in 'history --json'.
+type exclusionJSON struct {
+	Why string    `json:"why"`
+	By  string    `json:"by"`
+	At  time.Time `json:"at"`
 }
 
 func runHistory(ctx context.Context, e *env, args []string) error {
@@ -139,8 +149,8 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 			return nil
 		}
 		r := h.Result
-		fmt.Fprintf(out, "%s  %-8s %s/%s %s  %s\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
-			orDash(h.Meta.Prototype), orDash(h.Meta.Revision), orDash(h.Meta.Bay), h.Path)
+		fmt.Fprintf(out, "%s  %-8s %s/%s %s  %s  (hit %d, %s)\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
+			orDash(h.Meta.Prototype), orDash(h.Meta.Revision), orDash(h.Meta.Bay), h.Path, h.ID, h.SHA256[:min(12, len(h.SHA256))])
 		if h.SupersededBy != 0 {
 			fmt.Fprintf(out, "    superseded %s: the file changed, its content is now the hit with SHA-256 %.12s; not counted\n",
 				h.SupersededAt.Local().Format("2006-01-02 15:04:05"), h.SupersededBySHA256)
@@ -158,6 +168,9 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 				100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1], drop)
 		}
 		printReasons(out, "    ", r.Reasons)
+		if x := h.Excluded; x != nil {
+			fmt.Fprintf(out, "    excluded by hand by %s at %s: %s\n", x.By, x.At.Local().Format("2006-01-02 15:04"), x.Why)
+		}
 		return nil
 	})
 	if ferr := out.Flush(); err == nil {
@@ -178,7 +191,11 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 
 func toHitJSON(h db.Hit) hitJSON {
 	r := h.Result
-	return hitJSON{
+	var ex *exclusionJSON
+	if x := h.Excluded; x != nil {
+		ex = &exclusionJSON{Why: x.Why, By: x.By, At: x.At}
+	}
+	return hitJSON{ID: h.ID, Excluded: ex,
 		File: h.Path, SHA256: h.SHA256, Verdict: r.Verdict, Prototype: h.Meta.Prototype, Revision: h.Meta.Revision,
 		Bay: h.Meta.Bay, Point: h.Meta.Point, Direction: h.Meta.Direction, HitTime: h.Meta.HitTime, Ingested: h.IngestedAt,
 		Reasons: nonNil(r.Reasons), Modes: nonNil(r.Modes), Channel: r.Channel, Analysis: r.AnalysisVersion, Meta: h.Meta.Extra,

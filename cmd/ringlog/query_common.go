@@ -13,17 +13,65 @@ import (
 	"strings"
 
 	"github.com/ringlog/ringlog/db"
+	"github.com/ringlog/ringlog/pipeline"
+	"github.com/ringlog/ringlog/pipeline/check"
 	rpt "github.com/ringlog/ringlog/report"
 	"github.com/ringlog/ringlog/report/page"
 )
 
+// dbFlags are --db and --config, the database of a command that reads or
+// changes the history.
+type dbFlags struct {
+	dbPath, cfgPath string
+	cfg             *Config // loaded by config
+}
+
+// addDBFlags declares --db and --config on fs.
+func addDBFlags(fs *flag.FlagSet) *dbFlags {
+	d := &dbFlags{}
+	fs.StringVar(&d.dbPath, "db", "", "history database (required unless --config names one)")
+	fs.StringVar(&d.cfgPath, "config", "", "TOML configuration: the database and the expected modes of each prototype ([[prototype]] entries)")
+	return d
+}
+
+// config reads the configuration named by --config once; nil without it.
+func (d *dbFlags) config() (*Config, error) {
+	if d.cfg != nil || d.cfgPath == "" {
+		return d.cfg, nil
+	}
+	cfg, err := loadConfig(d.cfgPath)
+	if err != nil {
+		return nil, err
+	}
+	d.cfg = cfg
+	return cfg, nil
+}
+
+// database returns the database path: --db, else the configuration's.
+func (d *dbFlags) database() (string, error) {
+	if d.dbPath != "" {
+		return d.dbPath, nil
+	}
+	cfg, err := d.config()
+	if err != nil {
+		return "", err
+	}
+	if cfg == nil {
+		return "", usagef("--db PATH or --config FILE is required")
+	}
+	if cfg.Database == "" {
+		return "", fmt.Errorf("config %s: database is not set (or give --db PATH)", d.cfgPath)
+	}
+	return cfg.Database, nil
+}
+
 // queryFlags is the one filter of the history commands (history, stats,
 // compare, trend, rayleigh, export, report daily, report compare and,
 // without the counting flags, reanalyze), declared here once, with the
-// database flags --db and --config.
+// database flags.
 type queryFlags struct {
-	dbPath, cfgPath string
-	prototype       string
+	*dbFlags
+	prototype string
 	// revisions holds every --revision given: one or more revisions to
 	// keep; compare and report compare want exactly two (reference first).
 	revisions stringList
@@ -36,7 +84,6 @@ type queryFlags struct {
 	// withFlagged counts the modes that a flag doubts (see report.Identify).
 	withFlagged bool
 	synthetic   bool
-	cfg         *Config // loaded by config
 }
 
 // queryOption leaves a flag out of a command's set.
@@ -48,9 +95,7 @@ const withoutCounting queryOption = 1
 
 // addQueryFlags declares the shared filter and database flags on fs.
 func addQueryFlags(fs *flag.FlagSet, opts ...queryOption) *queryFlags {
-	q := &queryFlags{}
-	fs.StringVar(&q.dbPath, "db", "", "history database (required unless --config names one)")
-	fs.StringVar(&q.cfgPath, "config", "", "TOML configuration: the database and the expected modes of each prototype ([[prototype]] entries)")
+	q := &queryFlags{dbFlags: addDBFlags(fs)}
 	fs.StringVar(&q.prototype, "prototype", "", "only this prototype")
 	fs.Var(&q.revisions, "revision", "only this revision; repeat it for several")
 	fs.StringVar(&q.bay, "bay", "", "only this test bay")
@@ -85,37 +130,6 @@ func (q *queryFlags) filter() (db.Filter, error) {
 		}
 	}
 	return f, nil
-}
-
-// config reads the configuration named by --config once; nil without it.
-func (q *queryFlags) config() (*Config, error) {
-	if q.cfg != nil || q.cfgPath == "" {
-		return q.cfg, nil
-	}
-	cfg, err := loadConfig(q.cfgPath)
-	if err != nil {
-		return nil, err
-	}
-	q.cfg = cfg
-	return cfg, nil
-}
-
-// database returns the database path: --db, else the configuration's.
-func (q *queryFlags) database() (string, error) {
-	if q.dbPath != "" {
-		return q.dbPath, nil
-	}
-	cfg, err := q.config()
-	if err != nil {
-		return "", err
-	}
-	if cfg == nil {
-		return "", usagef("--db PATH or --config FILE is required")
-	}
-	if cfg.Database == "" {
-		return "", fmt.Errorf("config %s: database is not set (or give --db PATH)", q.cfgPath)
-	}
-	return cfg.Database, nil
 }
 
 // identifyOptions returns how report.Identify counts for prototype: the
@@ -359,4 +373,48 @@ func (s filteredSource) StoredFiles(ctx context.Context, f db.Filter) ([]db.Stor
 		return nil, nil
 	}
 	return s.Source.StoredFiles(ctx, f)
+}
+
+// printLeftOut writes what a report left out and why, after indent: one
+// line of counts by reason code, then each hit excluded by hand with its
+// reason. Nothing when nothing was left out.
+func printLeftOut(w io.Writer, indent string, excluded []rpt.Exclusion, byHand []rpt.ExcludedHit) {
+	if len(excluded) == 0 {
+		return
+	}
+	var parts []string
+	for _, x := range excluded {
+		parts = append(parts, fmt.Sprintf("%d %s (%s)", x.Count, leftOutWhat(x), x.Code))
+	}
+	fmt.Fprintf(w, "%sleft out: %s\n", indent, strings.Join(parts, ", "))
+	for _, h := range byHand {
+		fmt.Fprintf(w, "%s  excluded by hand: hit %d %s, by %s at %s: %s\n", indent, h.HitID, h.File, h.By,
+			h.At.Local().Format("2006-01-02 15:04"), h.Why)
+	}
+}
+
+// leftOutWhat says what an exclusion left out, e.g. "hit(s) rejected".
+func leftOutWhat(x rpt.Exclusion) string {
+	switch {
+	case x.What == "hit" && x.Code == rpt.CodeExcludedByHand:
+		return "hit(s) excluded by hand"
+	case x.What == "hit":
+		return "hit(s) rejected"
+	case x.Code == rpt.CodeNoEstimate:
+		return "mode(s) without a usable estimate"
+	case severityOf(x.Code) == pipeline.SeverityFlag:
+		return "mode(s) doubted"
+	}
+	return "mode(s) dropped"
+}
+
+// severityOf returns the severity of a reason code of the quality rules
+// ("" for a code they do not give).
+func severityOf(code string) pipeline.Severity {
+	for _, r := range check.Describe() {
+		if r.Code == code {
+			return r.Severity
+		}
+	}
+	return ""
 }

@@ -146,6 +146,7 @@ func printRayleighBody(w io.Writer, r rpt.RayleighReport) {
 	for _, x := range r.Warnings {
 		fmt.Fprintf(w, "  warning: %s\n", x)
 	}
+	printLeftOut(w, "  ", r.Excluded, r.ExcludedByHand)
 	fmt.Fprintln(w, "  cautions:")
 	for _, c := range r.Cautions {
 		fmt.Fprintf(w, "  - %s\n", c)

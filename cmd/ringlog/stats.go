@@ -102,17 +102,7 @@ func printStats(w io.Writer, rs rpt.RevisionStats) {
 			fmt.Fprintf(w, "    %10.4g Hz  zeta %7.3f %%  hit %d %s\n", o.FrequencyHz, 100*o.DampingRatio, o.HitID, o.File)
 		}
 	}
-	if len(rs.Excluded) > 0 {
-		var parts []string
-		for _, x := range rs.Excluded {
-			what := "hit(s) rejected"
-			if x.What == "mode" {
-				what = "mode(s) dropped"
-			}
-			parts = append(parts, fmt.Sprintf("%d %s (%s)", x.Count, what, x.Code))
-		}
-		fmt.Fprintf(w, "  excluded: %s\n", strings.Join(parts, ", "))
-	}
+	printLeftOut(w, "  ", rs.Excluded, rs.ExcludedByHand)
 	if len(rs.Modes) == 0 {
 		fmt.Fprintln(w, "  no usable mode")
 	}

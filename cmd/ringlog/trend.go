@@ -75,6 +75,7 @@ func printTrend(w io.Writer, rt rpt.RevisionTrend) {
 	if len(rt.Modes) == 0 {
 		fmt.Fprintln(w, "  no usable mode")
 	}
+	printLeftOut(w, "  ", rt.Excluded, rt.ExcludedByHand)
 	for _, m := range rt.Modes {
 		fmt.Fprintf(w, "  %s: %d hit(s) over %s days (%s to %s)\n", m.Name, m.N, fnum("%.3g", m.SpanDays),
 			m.Start.Local().Format("2006-01-02 15:04"), m.End.Local().Format("2006-01-02 15:04"))

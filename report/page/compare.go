@@ -106,6 +106,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 		}
 	}
 	v.Excluded = exclusionRows(id, a, b)
+	v.ByHand = append(byHandRows(id, a), byHandRows(id, b)...)
 	for _, c := range cs {
 		m := compareMode{Name: c.Name, Sentence: c.Sentence, FreqSentence: c.FrequencySentence, Shown: c.Shown,
 			NA: c.NA, NB: c.NB, GeoA: Pct(c.GeoMeanA), GeoB: Pct(c.GeoMeanB), Ratio: num(c.Ratio, 3),
@@ -188,6 +189,7 @@ type compareView struct {
 	RatioPlot              template.HTML
 	Modes                  []compareMode
 	Excluded               []exclusionRow
+	ByHand                 []byHandRow
 	Cautions               []string
 }
 
@@ -220,7 +222,7 @@ func exclusionRows(id *report.Identified, a, b string) []exclusionRow {
 			if !ok {
 				i = len(rows)
 				idx[key] = i
-				rows = append(rows, exclusionRow{Code: ex.Code, What: ex.What, Meaning: ruleMeaning()[ex.Code]})
+				rows = append(rows, exclusionRow{Code: ex.Code, What: ex.What, Meaning: codeMeaning(ex.Code)})
 			}
 			if k == 0 {
 				rows[i].A += ex.Count

@@ -504,6 +504,7 @@ type protoView struct {
 	Rayleigh  []rayleighView
 	Note      string      // unmatched modes, thinned points
 	Levels    []levelView // damping against the excitation level (amplitude.go)
+	LeftOut   leftOutView // what the campaign's statistics left out (leftout.go)
 }
 
 type revSwatch struct {
@@ -546,6 +547,7 @@ func prototypeView(ctx context.Context, src Source, proto string, since, until t
 	id := report.Identify(hits, iopt)
 	stats := report.Stats(id)
 	revs := id.Revisions()
+	pv.LeftOut = leftOut(id, revs)
 	revClass := map[string]string{}
 	for i, r := range revs {
 		revClass[r] = fmt.Sprintf("rev%d", i%len(revColors))

@@ -237,6 +237,7 @@ const dailyBody = `<header class="mast">
 </div>{{end}}
 {{with $p.Note}}<p class="note">{{.}}</p>{{end}}
 {{template "levels" $p.Levels}}
+{{template "leftout" $p.LeftOut}}
 {{with $p.Rayleigh}}<h3>Rayleigh coefficients of {{$p.Name}}</h3>
 <p class="lede">ζ(ω) = α/(2ω) + βω/2 with ω in rad/s, fitted to the mean damping of each mode over the campaign, weighted by its uncertainty; α and β not negative. Intervals 95 %.</p>
 {{range .}}<div class="rayleigh">
@@ -334,6 +335,7 @@ const compareBody = `<header class="mast">
 <thead><tr><th>reason code</th><th>what</th><th class="n">{{.A}}</th><th class="n">{{.B}}</th><th>what it means</th></tr></thead>
 <tbody>{{range .Excluded}}<tr><td><code>{{.Code}}</code></td><td>{{.What}}</td><td class="n">{{.A}}</td><td class="n">{{.B}}</td><td>{{.Meaning}}</td></tr>{{end}}</tbody>
 </table>
+{{template "byhand" .ByHand}}
 </section>{{end}}
 
 {{template "cautions" .Cautions}}
@@ -344,6 +346,7 @@ func mustPage(name, body string) *template.Template {
 	template.Must(t.New("css").Parse(css))
 	template.Must(t.Parse(cautionsBlock))
 	template.Must(t.Parse(levelsBlock))
+	template.Must(t.Parse(leftOutBlock))
 	return template.Must(t.New(name).Parse(head + body + foot))
 }
 
