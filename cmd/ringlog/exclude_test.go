@@ -113,7 +113,7 @@ func TestExcludeCommand(t *testing.T) {
 	if out, _, _ := cli(t, "export", "--db", dbPath, "--prototype", "frame", "--format", "json"); !strings.Contains(out, `"excluded_by_hand":[{"hit_id":`) {
 		t.Errorf("export json lacks the hand exclusion:\n%s", out)
 	}
-	if out, _, _ := cli(t, "export", "--db", dbPath, "--prototype", "frame", "--format", "csv"); !strings.Contains(out, "excluded by hand: hit") {
+	if out, _, _ := cli(t, "export", "--db", dbPath, "--prototype", "frame", "--format", "csv", "--with-provenance"); !strings.Contains(out, "excluded by hand: hit") {
 		t.Errorf("export csv lacks the hand exclusion:\n%s", out)
 	}
 	for _, cmd := range [][]string{{"trend", "--json"}, {"rayleigh", "--json"}} {
