@@ -82,10 +82,10 @@ const (
 
 // Reason is one finding of a quality rule.
 type Reason struct {
-	Code     string   `json:"code"`           // stable reason code, e.g. "clipped"
-	Message  string   `json:"message"`        // plain language, for the engineer
-	Severity Severity `json:"severity"`       // flag, drop or reject
-	Mode     *int     `json:"mode,omitempty"` // index into Result.Modes when the reason concerns one mode
+	Code     string   `json:"code"`     // stable reason code, e.g. "clipped"
+	Message  string   `json:"message"`  // plain language, for the engineer
+	Severity Severity `json:"severity"` // flag, drop or reject
+	Mode     *int     `json:"mode"`     // index into Result.Modes when the reason concerns one mode
 }
 
 // ModeRef returns a pointer to i, for Reason.Mode.
@@ -96,7 +96,7 @@ type Estimate struct {
 	Method       string  `json:"method"`        // "subspace", "nls", "envelope", "logdec", "halfpower"
 	FrequencyHz  float64 `json:"frequency_hz"`  // natural frequency
 	DampingRatio float64 `json:"damping_ratio"` // fraction of critical
-	Note         string  `json:"note,omitempty"`
+	Note         string  `json:"note"`
 }
 
 // Mode is one structural mode found in a hit.
@@ -112,8 +112,8 @@ type Mode struct {
 	DecaySNRdB     float64    `json:"snr_db"`             // peak signal-to-noise ratio of this mode, dB
 	Spread         float64    `json:"estimator_spread"`   // max relative deviation of the cross-checks from the primary zeta
 	Estimates      []Estimate `json:"estimates"`          // all estimators, primary first
-	Dropped        bool       `json:"dropped,omitempty"`  // dropped by a rule; kept for the record
-	Label          string     `json:"label,omitempty"`    // expected-mode label when known
+	Dropped        bool       `json:"dropped"`            // dropped by a rule; kept for the record
+	Label          string     `json:"label"`              // expected-mode label when known
 	// AmplitudeDamping is the damping ratio against the amplitude along the
 	// decay, largest amplitude first; empty when the mode could not be
 	// isolated or its decay spans too little amplitude.
@@ -148,19 +148,19 @@ const (
 type Result struct {
 	File            string            `json:"file"`
 	Format          string            `json:"format"`
-	Channel         string            `json:"channel"`                 // response channel analysed
-	ForceChannel    string            `json:"force_channel,omitempty"` // force channel used, if any
+	Channel         string            `json:"channel"`       // response channel analysed
+	ForceChannel    string            `json:"force_channel"` // force channel used, if any
 	SampleRate      float64           `json:"sample_rate_hz"`
 	DurationS       float64           `json:"duration_s"`
 	NoiseRMS        float64           `json:"noise_rms"`
-	TriggerS        float64           `json:"trigger_s"`              // time of the impact from the record start
-	OnsetS          float64           `json:"onset_s"`                // start of the free decay the estimators used
-	WindowTauS      float64           `json:"window_tau_s,omitempty"` // exponential window corrected for
-	PeakForce       float64           `json:"peak_force"`             // peak of the force pulse above its baseline, force units; 0 without a force channel
+	TriggerS        float64           `json:"trigger_s"`    // time of the impact from the record start
+	OnsetS          float64           `json:"onset_s"`      // start of the free decay the estimators used
+	WindowTauS      float64           `json:"window_tau_s"` // exponential window corrected for
+	PeakForce       float64           `json:"peak_force"`   // peak of the force pulse above its baseline, force units; 0 without a force channel
 	Verdict         Verdict           `json:"verdict"`
 	Reasons         []Reason          `json:"reasons"`
 	Modes           []Mode            `json:"modes"`
-	Meta            map[string]string `json:"meta,omitempty"`
+	Meta            map[string]string `json:"meta"`
 	AnalysisVersion string            `json:"analysis_version"`
 }
 

@@ -96,7 +96,7 @@ type ModeComparison struct {
 	// HitsNeeded the hits per revision that would show a DetectRatio
 	// difference (0 when not computed).
 	PooledSDLog float64 `json:"pooled_sd_log"`
-	HitsNeeded  int     `json:"hits_needed,omitempty"`
+	HitsNeeded  int     `json:"hits_needed,nullempty"`
 	// Shown is true when the 95 % interval of the ratio excludes 1.
 	Shown             bool   `json:"difference_shown"`
 	Sentence          string `json:"sentence"`

@@ -57,7 +57,7 @@ type Export struct {
 	// made, RayleighNote then says why); StiffnessOnly the alpha = 0 fit.
 	Rayleigh      *RayleighFit `json:"rayleigh"`
 	StiffnessOnly *RayleighFit `json:"stiffness_only"`
-	RayleighNote  string       `json:"rayleigh_note,omitempty"`
+	RayleighNote  string       `json:"rayleigh_note,nullempty"`
 	Provenance    Provenance   `json:"provenance"`
 	Cautions      []string     `json:"cautions"`
 }

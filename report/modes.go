@@ -85,7 +85,7 @@ type Observation struct {
 	DampingRatio    float64     `json:"damping_ratio"`
 	DampingRatioSD  float64     `json:"damping_ratio_sd"` // the per-hit standard error
 	Label           string      `json:"label"`            // "" when unmatched
-	Source          LabelSource `json:"label_source,omitempty"`
+	Source          LabelSource `json:"label_source,nullempty"`
 }
 
 // ModeLabel is one identified mode of the history.
@@ -96,8 +96,8 @@ type ModeLabel struct {
 	// the label (over every revision given to Identify).
 	FrequencyHz float64 `json:"label_frequency_hz"`
 	// NominalHz and Tolerance are the expected mode's, for config labels.
-	NominalHz float64 `json:"nominal_frequency_hz,omitempty"`
-	Tolerance float64 `json:"tolerance,omitempty"`
+	NominalHz float64 `json:"nominal_frequency_hz,nullempty"`
+	Tolerance float64 `json:"tolerance,nullempty"`
 }
 
 // Name is the label with its median frequency, e.g. "m2 (171 Hz)".

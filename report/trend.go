@@ -152,9 +152,9 @@ type ModeTrend struct {
 	// Drift is true when the damping drifts (DriftP, DriftChange), and
 	// Warning then says so in words.
 	Drift   bool   `json:"drift"`
-	Warning string `json:"warning,omitempty"`
+	Warning string `json:"warning,nullempty"`
 	// Note says why no trend was computed.
-	Note string `json:"note,omitempty"`
+	Note string `json:"note,nullempty"`
 }
 
 // RevisionTrend is the trends of every mode of one revision.

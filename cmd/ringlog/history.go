@@ -68,15 +68,15 @@ type hitJSON struct {
 	Prototype string            `json:"prototype"`
 	Revision  string            `json:"revision"`
 	Bay       string            `json:"bay"`
-	Point     string            `json:"point,omitempty"`
-	Direction string            `json:"direction,omitempty"`
+	Point     string            `json:"point"`
+	Direction string            `json:"direction"`
 	HitTime   time.Time         `json:"hit_time"`
 	Ingested  time.Time         `json:"ingested_at"`
 	Reasons   []pipeline.Reason `json:"reasons"`
 	Modes     []pipeline.Mode   `json:"modes"`
 	Channel   string            `json:"channel"`
 	Analysis  string            `json:"analysis_version"`
-	Meta      map[string]string `json:"meta,omitempty"`
+	Meta      map[string]string `json:"meta"`
 	// Superseded is null for a current hit; for a hit that a later
 	// version of its file superseded (history --superseded), by what and
 	// when.
@@ -145,8 +145,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 			cfg.labelModes(h.Meta.Prototype, h.Result)
 		}
 		if *asJSON {
-			writeJSONLine(out, toHitJSON(h))
-			return nil
+			return writeReportJSON(out, toHitJSON(h))
 		}
 		r := h.Result
 		fmt.Fprintf(out, "%s  %-8s %s/%s %s  %s  (hit %d, %s)\n", h.Meta.HitTime.Local().Format("2006-01-02 15:04:05"), r.Verdict,
