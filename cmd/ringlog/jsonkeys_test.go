@@ -89,7 +89,7 @@ func TestJSONKeysAlwaysPresent(t *testing.T) {
 
 	reasons := 0
 	for _, h := range run("history", "--db", dbPath, "--json") {
-		keys(t, "history", h, "file sha256 verdict prototype revision bay point direction hit_time ingested_at reasons modes channel analysis_version meta superseded")
+		keys(t, "history", h, "id excluded file sha256 verdict prototype revision bay point direction hit_time ingested_at reasons modes channel analysis_version meta superseded")
 		for _, r := range h["reasons"].([]any) {
 			reasons++
 			keys(t, "history reasons", r.(map[string]any), "code message severity mode")
