@@ -106,7 +106,7 @@ func TestJSONKeysAlwaysPresent(t *testing.T) {
 	}
 
 	for _, s := range run("stats", "--db", dbPath, "--prototype", "frame", "--json") {
-		keys(t, "stats", s, "prototype revision hits_seen hits_used modes unmatched excluded damping_vs_level")
+		keys(t, "stats", s, "prototype revision hits_seen hits_used modes unmatched excluded excluded_by_hand damping_vs_level")
 		for _, m := range objects(t, "stats modes", s["modes"]) {
 			keys(t, "stats modes", m, "label label_source label_frequency_hz nominal_frequency_hz tolerance name damping_ratio frequency_hz hit_sd outliers")
 			keys(t, "stats damping_ratio", m["damping_ratio"].(map[string]any), "n mean sd median min max cv mean_ci95 bootstrap_ci95 geometric_mean geometric_mean_ci95")
@@ -118,14 +118,14 @@ func TestJSONKeysAlwaysPresent(t *testing.T) {
 	}
 
 	c := run("compare", "--db", dbPath, "--prototype", "frame", "--revision", "A", "--revision", "B", "--json")[0]
-	keys(t, "compare", c, "prototype revision_a revision_b modes")
+	keys(t, "compare", c, "prototype revision_a revision_b modes excluded excluded_by_hand")
 	for _, m := range objects(t, "compare modes", c["modes"]) {
 		keys(t, "compare modes", m, "label name n_a n_b geometric_mean_a geometric_mean_b damping_ratio_ratio damping_ratio_ratio_ci95 p log_damping_welch frequency_shift_hz frequency_shift_ci95 frequency_p pooled_sd_log hits_needed difference_shown sentence frequency_sentence")
 		keys(t, "compare log_damping_welch", m["log_damping_welch"].(map[string]any), "diff se dof t p ci95")
 	}
 
 	for _, r := range run("trend", "--db", dbPath, "--prototype", "frame", "--json") {
-		keys(t, "trend", r, "prototype revision modes warnings")
+		keys(t, "trend", r, "prototype revision modes warnings excluded excluded_by_hand")
 		for _, m := range objects(t, "trend modes", r["modes"]) {
 			keys(t, "trend modes", m, "label name n start end span_days damping_ratio frequency_hz drift warning note")
 			for _, q := range []string{"damping_ratio", "frequency_hz"} {
@@ -134,7 +134,7 @@ func TestJSONKeysAlwaysPresent(t *testing.T) {
 		}
 	}
 
-	rayleighKeys := "alpha beta alpha_ci95 beta_ci95 modes n_hits prototype revision method alpha_sd beta_sd cov_alpha_beta mc_alpha_ci95 mc_beta_ci95 mc_samples unconstrained constraint chi2 dof covariance_scale band_hz minimum_damping_ratio minimum_frequency_hz stiffness_only units warnings cautions"
+	rayleighKeys := "alpha beta alpha_ci95 beta_ci95 modes n_hits prototype revision method alpha_sd beta_sd cov_alpha_beta mc_alpha_ci95 mc_beta_ci95 mc_samples unconstrained constraint chi2 dof covariance_scale band_hz minimum_damping_ratio minimum_frequency_hz stiffness_only units warnings cautions excluded excluded_by_hand"
 	for _, r := range run("rayleigh", "--db", dbPath, "--prototype", "frame", "--json") {
 		keys(t, "rayleigh", r, rayleighKeys)
 		for _, m := range objects(t, "rayleigh modes", r["modes"]) {
@@ -147,7 +147,7 @@ func TestJSONKeysAlwaysPresent(t *testing.T) {
 		for _, m := range objects(t, "export modes", x["modes"]) {
 			keys(t, "export modes", m, "label name label_source n frequency_hz frequency_ci95 frequency_sd damping_ratio damping_ratio_ci95 damping_ratio_sd geometric_mean geometric_mean_ci95 bootstrap_ci95 fitted_damping_ratio")
 		}
-		keys(t, "export provenance", x["provenance"].(map[string]any), "hits analysis_versions excluded")
+		keys(t, "export provenance", x["provenance"].(map[string]any), "hits analysis_versions excluded excluded_by_hand")
 		for _, h := range objects(t, "export provenance hits", x["provenance"].(map[string]any)["hits"]) {
 			keys(t, "export provenance hits", h, "id sha256 file prototype revision hit_time analysis_version verdict")
 		}
