@@ -96,7 +96,14 @@ func DampingVsLevel(id *Identified, hits []db.Hit, revision string) []LevelStat 
 	}
 	out := []LevelStat{}
 	for _, l := range id.Labels {
-		obs := id.Select(revision, l.Label)
+		// the observations of the revision and label, read in place: a
+		// long history has hundreds of thousands
+		var obs []*Observation
+		for i := range id.Obs {
+			if o := &id.Obs[i]; o.Revision == revision && o.Label == l.Label && l.Label != "" {
+				obs = append(obs, o)
+			}
+		}
 		if len(obs) == 0 {
 			continue
 		}

@@ -50,6 +50,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer src.Close()
+	limitQueryHeap()
 	hits, err := src.hits(ctx)
 	if err != nil {
 		return err

@@ -48,6 +48,7 @@ func runExport(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer src.Close()
+	limitQueryHeap()
 	hits, err := src.hits(ctx)
 	if err != nil {
 		return err

@@ -39,6 +39,7 @@ func runRayleigh(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer src.Close()
+	limitQueryHeap()
 	hits, err := src.hits(ctx)
 	if err != nil {
 		return err

@@ -30,6 +30,7 @@ func runTrend(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer src.Close()
+	limitQueryHeap()
 	hits, err := src.hits(ctx)
 	if err != nil {
 		return err
