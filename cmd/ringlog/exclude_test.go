@@ -124,8 +124,12 @@ func TestExcludeCommand(t *testing.T) {
 	}
 	// The daily page lists the hit excluded by hand with the reason.
 	page := filepath.Join(dir, "day.html")
-	if _, errOut, code := cli(t, "report", "daily", "--db", dbPath, "--day", start.Local().Format("2006-01-02"), "--out", page); code != 0 {
+	out, errOut, code := cli(t, "report", "daily", "--db", dbPath, "--day", start.Local().Format("2006-01-02"), "--out", page)
+	if code != 0 {
 		t.Fatalf("report daily: exit %d: %s", code, errOut)
+	}
+	if !strings.Contains(out, "left out of the statistics: "+strconv.Itoa(2+len(hs)-len(ok))+" hits") {
+		t.Errorf("report daily does not count what was left out:\n%s", out)
 	}
 	if b, _ := os.ReadFile(page); !strings.Contains(string(b), "Excluded by hand") || !strings.Contains(string(b), "hammer tip loose") {
 		t.Errorf("the daily page does not list the hits excluded by hand")
@@ -216,3 +220,42 @@ func jsonNumber(t *testing.T, v any) int64 {
 }
 
 func idString(id int64) string { return strconv.FormatInt(id, 10) }
+
+// TestWithFlagged: synth-history flags about 4 % of its hits with a
+// beating_modes flag that names no mode (db/synthetic.go): stats leaves
+// every mode of those hits out and says so; --with-flagged counts them.
+func TestWithFlagged(t *testing.T) {
+	t.Parallel()
+	dbPath := filepath.Join(t.TempDir(), "synth.db")
+	if _, errOut, code := cli(t, "synth-history", "--db", dbPath, "--hits", "400", "--revisions", "A", "--end", "2025-06-30"); code != 0 {
+		t.Fatalf("synth-history: exit %d: %s", code, errOut)
+	}
+	stats := func(extra ...string) (n, beating, modes float64) {
+		t.Helper()
+		args := append([]string{"stats", "--db", dbPath, "--synthetic", "--prototype", "synthetic-frame", "--json"}, extra...)
+		out, errOut, code := cli(t, args...)
+		if code != 0 {
+			t.Fatalf("stats %v: exit %d: %s", extra, code, errOut)
+		}
+		rs := jsonLines(t, out)[0]
+		n = rs["modes"].([]any)[0].(map[string]any)["damping_ratio"].(map[string]any)["n"].(float64)
+		modes = float64(len(rs["modes"].([]any)))
+		for _, x := range rs["excluded"].([]any) {
+			if m := x.(map[string]any); m["code"] == "beating_modes" {
+				if m["what"] != "mode" {
+					t.Errorf("beating_modes left out as %v", m["what"])
+				}
+				beating = m["count"].(float64)
+			}
+		}
+		return n, beating, modes
+	}
+	n, beating, modes := stats()
+	nAll, beatingAll, _ := stats("--with-flagged")
+	// Each flagged hit has every mode (synth-history never drops a mode
+	// of a flagged hit), so the first mode gains one value per flagged
+	// hit: the modes left out over the modes per hit.
+	if beating == 0 || beatingAll != 0 || nAll-n != beating/modes {
+		t.Errorf("n %g with %g modes left out for beating_modes; --with-flagged: n %g, %g left out", n, beating, nAll, beatingAll)
+	}
+}

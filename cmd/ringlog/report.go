@@ -106,7 +106,16 @@ func runReportDaily(ctx context.Context, e *env, args []string) error {
 	if sum.Unplotted > 0 {
 		fmt.Fprintf(e.stdout, "  %s of flagged or rejected hits could not be re-read; the page says why\n", reportPlural(sum.Unplotted, "file"))
 	}
+	printLeftOutCounts(e.stdout, sum.LeftOutHits, sum.LeftOutModes)
 	return nil
+}
+
+// printLeftOutCounts says how many hits and modes a page's statistics
+// left out; the page says why.
+func printLeftOutCounts(w io.Writer, hits, modes int) {
+	if hits > 0 || modes > 0 {
+		fmt.Fprintf(w, "  left out of the statistics: %s, %s; the page says why\n", reportPlural(hits, "hit"), reportPlural(modes, "mode"))
+	}
 }
 
 func runReportCompare(ctx context.Context, e *env, args []string) error {
@@ -172,6 +181,7 @@ func runReportCompare(ctx context.Context, e *env, args []string) error {
 	}
 	fmt.Fprintf(e.stdout, "revision report of %s, %s against %s: %s compared, a difference in damping shown for %d\n  %s\n",
 		*proto, revs[1], revs[0], reportPlural(sum.Modes, "mode"), sum.Shown, target)
+	printLeftOutCounts(e.stdout, sum.LeftOutHits, sum.LeftOutModes)
 	return nil
 }
 

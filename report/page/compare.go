@@ -45,9 +45,12 @@ type CompareOptions struct {
 // CompareSummary is what Compare reports back.
 type CompareSummary struct {
 	HitsA, HitsB int
-	Modes        int   // modes compared
-	Shown        int   // modes whose damping differs with 95 % confidence
-	Bytes        int64 // size of the page written
+	Modes        int // modes compared
+	Shown        int // modes whose damping differs with 95 % confidence
+	// LeftOutHits and LeftOutModes count what the statistics of both
+	// revisions left out (report.Identify), the page says why.
+	LeftOutHits, LeftOutModes int
+	Bytes                     int64 // size of the page written
 }
 
 // Compare writes the revision report: per mode both revisions' damping
@@ -107,6 +110,7 @@ func Compare(ctx context.Context, w io.Writer, src Source, opt CompareOptions) (
 	}
 	v.Excluded = exclusionRows(id, a, b)
 	v.ByHand = append(byHandRows(id, a), byHandRows(id, b)...)
+	sum.LeftOutHits, sum.LeftOutModes = leftOut(id, []string{a, b}).counts()
 	for _, c := range cs {
 		m := compareMode{Name: c.Name, Sentence: c.Sentence, FreqSentence: c.FrequencySentence, Shown: c.Shown,
 			NA: c.NA, NB: c.NB, GeoA: Pct(c.GeoMeanA), GeoB: Pct(c.GeoMeanB), Ratio: num(c.Ratio, 3),

@@ -90,7 +90,10 @@ type DailySummary struct {
 	// Superseded counts the hits superseded on the day by a later version
 	// of their file; Failed the files given up on the day.
 	Superseded, Failed int
-	Bytes              int64 // size of the page written
+	// LeftOutHits and LeftOutModes count what the campaigns' statistics
+	// left out (report.Identify), the page says why.
+	LeftOutHits, LeftOutModes int
+	Bytes                     int64 // size of the page written
 }
 
 // DayBounds returns the start of the calendar day of t and the start of
@@ -189,6 +192,9 @@ func Daily(ctx context.Context, w io.Writer, src Source, opt DailyOptions) (Dail
 			return sum, err
 		}
 		v.Prototypes = append(v.Prototypes, pv)
+		h, m := pv.LeftOut.counts()
+		sum.LeftOutHits += h
+		sum.LeftOutModes += m
 	}
 	cards, plotted, unplotted, err := spoiledCards(ctx, src, hits, since, until, opt)
 	if err != nil {

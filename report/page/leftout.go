@@ -42,6 +42,18 @@ func leftOut(id *report.Identified, revs []string) leftOutView {
 	return v
 }
 
+// counts returns the hits and the modes v left out.
+func (v leftOutView) counts() (hits, modes int) {
+	for _, r := range v.Rows {
+		if r.What == "hit" {
+			hits += r.Count
+		} else {
+			modes += r.Count
+		}
+	}
+	return hits, modes
+}
+
 // byHandRows lists the hits of rev excluded by hand.
 func byHandRows(id *report.Identified, rev string) []byHandRow {
 	var out []byHandRow
