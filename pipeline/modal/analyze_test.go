@@ -257,8 +257,8 @@ func TestAnalyzeFields(t *testing.T) {
 	if want := int(h.PreTrigger * h.SampleRate); d.Trigger < want-1 || d.Trigger > want+1 {
 		t.Errorf("trigger %d, want %d", d.Trigger, want)
 	}
-	if want := int(math.Ceil((h.PreTrigger + h.PulseWidth) * h.SampleRate)); d.Onset < want-1 || d.Onset > want+1 {
-		t.Errorf("onset %d, want %d (end of the pulse)", d.Onset, want)
+	if want := int(math.Ceil((h.PreTrigger+h.PulseWidth)*h.SampleRate)) + filterSettle; d.Onset < want-1 || d.Onset > want+1 {
+		t.Errorf("onset %d, want %d (end of the pulse and filterSettle samples for the anti-alias filter)", d.Onset, want)
 	}
 	if math.Abs(d.NoiseRMS-h.NoiseSD) > 0.1*h.NoiseSD {
 		t.Errorf("noise %.4g, true %.4g", d.NoiseRMS, h.NoiseSD)

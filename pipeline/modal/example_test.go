@@ -27,7 +27,7 @@ func ExampleAnalyze() {
 			m.FrequencyHz, 100*m.DampingRatio, 100*m.DampingRatioCI[0], 100*m.DampingRatioCI[1], 100*m.EnergyShare)
 	}
 	// Output:
-	// impact at sample 513, free decay from sample 517
+	// impact at sample 513, free decay from sample 520
 	// 42.00 Hz: damping ratio 1.198 % (95 % interval 1.197-1.200 %), 98 % of the energy
-	// 156.01 Hz: damping ratio 2.506 % (95 % interval 2.481-2.532 %), 2 % of the energy
+	// 156.01 Hz: damping ratio 2.506 % (95 % interval 2.480-2.532 %), 2 % of the energy
 }

@@ -22,11 +22,7 @@ import (
 // a change stands:
 //
 //	RINGLOG_FIELD_KNOWN=1 go test ./pipeline/process -run TestFieldCorpus -v
-var fieldKnownFailures = map[string]string{
-	"ac-coupling-clean":  "issue 8 item 6: the 41 Hz damping (fs 256 Hz, highpass_hz = 0.5 configured) reads 0.993 % against 1.000 %, [0.987, 0.99996] at 3.29 sigma; over 100 trials (ringlog accuracy --realistic) the bias is only +0.08 % but the scatter is 2.6 times the Cramer-Rao bound and the 95 % intervals cover 77 %: too narrow for a record whose anti-alias filter still rings (2 of 17 m/s^2 7 ms after the contact at this rate) where the fit starts",
-	"quantisation-clean": "issue 8 item 7: the noise is now the floor step/sqrt(12) = 0.0044 m/s^2, but the 410 Hz damping reads 0.00802 with a 3.29-sigma interval [0.00801, 0.00804] that misses 0.00800 (the rounding of a decay far below one step is not noise)",
-	"plate-modes-clean":  "issue 8 item 8: all 12 plate modes are found (a second search in the residual of the fit finds the three on the skirts of stronger neighbours), but at 45-63 dB the intervals are 0.1-0.8 % wide and several modes miss them by a few sd: the 713 Hz damping reads 0.506 % against 0.500 %, frequencies are off by up to 0.05 Hz (7e-5)",
-}
+var fieldKnownFailures = map[string]string{}
 
 // fieldZ is how many standard errors from its estimate the truth may lie
 // in one file: 3.29, the two-sided 99.9 % point of the normal
