@@ -91,7 +91,7 @@ func BuildExport(rs RevisionStats, opt ExportOptions) Export {
 		for _, h := range ms.Hits {
 			if !seen[h.ID] {
 				seen[h.ID] = true
-				ex.Provenance.Hits = append(ex.Provenance.Hits, h)
+				ex.Provenance.Hits = append(ex.Provenance.Hits, *h)
 			}
 		}
 	}

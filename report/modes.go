@@ -440,7 +440,7 @@ func (id *Identified) cluster(opt IdentifyOptions, usableHits int) {
 		f float64
 		i int
 	}
-	var order []byFreq
+	order := make([]byFreq, 0, len(id.Obs))
 	for i, o := range id.Obs {
 		if o.Label == "" {
 			order = append(order, byFreq{o.FrequencyHz, i})

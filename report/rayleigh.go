@@ -471,7 +471,7 @@ func RayleighFor(rs RevisionStats, labels []string, opt RayleighOptions) (Raylei
 		for _, h := range ms.Hits {
 			if !hits[h.ID] {
 				hits[h.ID] = true
-				rep.Hits = append(rep.Hits, h)
+				rep.Hits = append(rep.Hits, *h)
 			}
 		}
 	}

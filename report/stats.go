@@ -212,8 +212,10 @@ type ModeStat struct {
 	// damping ratio: the estimation uncertainty of one hit.
 	HitSD    float64   `json:"hit_sd"`
 	Outliers []Outlier `json:"outliers"`
-	// Hits are the hits the statistics use.
-	Hits []HitRef `json:"-"`
+	// Hits are the hits the statistics use (shared with the Identified
+	// the statistics were made from: a hit is in the list of each of its
+	// modes).
+	Hits []*HitRef `json:"-"`
 	// Obs are the observations the statistics use.
 	Obs []Observation `json:"-"`
 }
@@ -242,9 +244,9 @@ type RevisionStats struct {
 // the order of the revisions' first hits and of the modes' frequencies.
 func Stats(id *Identified) []RevisionStats {
 	var out []RevisionStats
-	hitIndex := make(map[int64]HitRef, len(id.Hits))
-	for _, h := range id.Hits {
-		hitIndex[h.ID] = h
+	hitIndex := make(map[int64]*HitRef, len(id.Hits))
+	for i := range id.Hits {
+		hitIndex[id.Hits[i].ID] = &id.Hits[i]
 	}
 	for _, rev := range id.Revisions() {
 		rs := RevisionStats{Revision: rev, Unmatched: id.Unmatched(rev), Excluded: id.excluded(rev), ExcludedByHand: id.byHand(rev)}
@@ -279,7 +281,7 @@ func ModeStats(l ModeLabel, obs []Observation) ModeStat {
 	return modeStats(l, obs, nil)
 }
 
-func modeStats(l ModeLabel, obs []Observation, byID map[int64]HitRef) ModeStat {
+func modeStats(l ModeLabel, obs []Observation, byID map[int64]*HitRef) ModeStat {
 	ms := ModeStat{ModeLabel: l, Name: l.Name(), Obs: obs, Outliers: []Outlier{}}
 	z := make([]float64, len(obs))
 	f := make([]float64, len(obs))
@@ -310,11 +312,11 @@ func modeStats(l ModeLabel, obs []Observation, byID map[int64]HitRef) ModeStat {
 				Score: math.Abs(q.x[i]-q.med) / mad, HitID: obs[i].HitID, File: obs[i].File, SHA256: obs[i].SHA256})
 		}
 	}
-	ms.Hits = make([]HitRef, 0, len(obs))
+	ms.Hits = make([]*HitRef, 0, len(obs))
 	for _, o := range obs {
 		h, ok := byID[o.HitID]
 		if !ok {
-			h = HitRef{ID: o.HitID, SHA256: o.SHA256, File: o.File, Prototype: o.Prototype, Revision: o.Revision, Time: o.Time, AnalysisVersion: o.AnalysisVersion}
+			h = &HitRef{ID: o.HitID, SHA256: o.SHA256, File: o.File, Prototype: o.Prototype, Revision: o.Revision, Time: o.Time, AnalysisVersion: o.AnalysisVersion}
 		}
 		ms.Hits = append(ms.Hits, h)
 	}
