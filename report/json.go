@@ -6,8 +6,12 @@ import (
 	"fmt"
 	"math"
 	"reflect"
+	"slices"
 	"sort"
+	"strconv"
 	"strings"
+	"sync"
+	"time"
 )
 
 // JSON encodes v like encoding/json (struct field order, json tags,
@@ -27,11 +31,28 @@ func JSON(v any) ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
-var marshalerType = reflect.TypeFor[json.Marshaler]()
+var (
+	marshalerType = reflect.TypeFor[json.Marshaler]()
+	timeType      = reflect.TypeFor[time.Time]()
+)
 
 func encodeValue(buf *bytes.Buffer, v reflect.Value) error {
 	if !v.IsValid() {
 		buf.WriteString("null")
+		return nil
+	}
+	if v.Type() == timeType {
+		if t := v.Interface().(time.Time); t.Year() >= 0 && t.Year() <= 9999 {
+			buf.WriteByte('"')
+			buf.Write(t.AppendFormat(buf.AvailableBuffer(), time.RFC3339Nano))
+			buf.WriteByte('"')
+			return nil
+		}
+	}
+	if v.Kind() == reflect.String && plainString(v.String()) {
+		buf.WriteByte('"')
+		buf.WriteString(v.String())
+		buf.WriteByte('"')
 		return nil
 	}
 	if v.Type().Implements(marshalerType) && (v.Kind() != reflect.Pointer || !v.IsNil()) {
@@ -55,8 +76,7 @@ func encodeValue(buf *bytes.Buffer, v reflect.Value) error {
 			buf.WriteString("null")
 			return nil
 		}
-		b, _ := json.Marshal(f)
-		buf.Write(b)
+		buf.Write(appendFloat(buf.AvailableBuffer(), f))
 		return nil
 	case reflect.Slice, reflect.Array:
 		buf.WriteByte('[')
@@ -100,13 +120,7 @@ func encodeValue(buf *bytes.Buffer, v reflect.Value) error {
 		buf.WriteByte('}')
 		return nil
 	case reflect.Struct:
-		buf.WriteByte('{')
-		first := true
-		if err := encodeFields(buf, v, &first, map[string]bool{}); err != nil {
-			return err
-		}
-		buf.WriteByte('}')
-		return nil
+		return encodeStruct(buf, v)
 	default:
 		b, err := json.Marshal(v.Interface())
 		if err != nil {
@@ -117,54 +131,96 @@ func encodeValue(buf *bytes.Buffer, v reflect.Value) error {
 	}
 }
 
-func encodeFields(buf *bytes.Buffer, v reflect.Value, first *bool, seen map[string]bool) error {
-	t := v.Type()
-	for i := 0; i < t.NumField(); i++ {
-		f := t.Field(i)
-		tag := f.Tag.Get("json")
-		if tag == "-" {
-			continue
-		}
-		name, opts, _ := strings.Cut(tag, ",")
-		fv := v.Field(i)
-		if f.Anonymous && name == "" && f.Type.Kind() == reflect.Struct {
-			if err := encodeFields(buf, fv, first, seen); err != nil {
-				return err
+// jsonField is a field that a struct's JSON object holds, found through
+// embedded structs by its index path.
+type jsonField struct {
+	index                []int
+	key                  string // the quoted name and the colon
+	omitEmpty, nullEmpty bool
+}
+
+// jsonFields are the fields of a struct type in the order they are
+// written, or the error that its keys clash.
+type jsonFields struct {
+	fields []jsonField
+	err    error
+}
+
+// fieldCache holds the jsonFields of each struct type met (reflect.Type
+// to *jsonFields): the tags are read once per type, not once per value.
+var fieldCache sync.Map
+
+// fieldsOf returns the fields of struct type t: tagged names (the field's
+// name without a tag), "-" left out, unexported fields left out, untagged
+// embedded structs inlined. A key that two fields would both write is an
+// error, not a silent choice.
+func fieldsOf(t reflect.Type) *jsonFields {
+	if f, ok := fieldCache.Load(t); ok {
+		return f.(*jsonFields)
+	}
+	out := &jsonFields{}
+	seen := map[string]bool{}
+	var walk func(st reflect.Type, index []int)
+	walk = func(st reflect.Type, index []int) {
+		for i := 0; i < st.NumField(); i++ {
+			f := st.Field(i)
+			tag := f.Tag.Get("json")
+			if tag == "-" {
+				continue
 			}
+			name, opts, _ := strings.Cut(tag, ",")
+			idx := append(slices.Clone(index), i)
+			if f.Anonymous && name == "" && f.Type.Kind() == reflect.Struct {
+				walk(f.Type, idx)
+				continue
+			}
+			if !f.IsExported() {
+				continue
+			}
+			if name == "" {
+				name = f.Name
+			}
+			if seen[name] && out.err == nil {
+				out.err = fmt.Errorf("report: JSON key %q twice in %s", name, t)
+			}
+			seen[name] = true
+			out.fields = append(out.fields, jsonField{index: idx, key: keyText(name),
+				omitEmpty: hasOpt(opts, "omitempty"), nullEmpty: hasOpt(opts, "nullempty")})
+		}
+	}
+	walk(t, nil)
+	f, _ := fieldCache.LoadOrStore(t, out)
+	return f.(*jsonFields)
+}
+
+// encodeStruct writes a struct as a JSON object (see JSON).
+func encodeStruct(buf *bytes.Buffer, v reflect.Value) error {
+	fs := fieldsOf(v.Type())
+	if fs.err != nil {
+		return fs.err
+	}
+	buf.WriteByte('{')
+	first := true
+	for _, f := range fs.fields {
+		fv := v.FieldByIndex(f.index)
+		empty := fv.IsZero() || (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0
+		if f.omitEmpty && empty {
 			continue
 		}
-		if !f.IsExported() {
-			continue
-		}
-		if name == "" {
-			name = f.Name
-		}
-		if hasOpt(opts, "omitempty") && fv.IsZero() {
-			continue
-		}
-		if hasOpt(opts, "omitempty") && (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0 {
-			continue
-		}
-		null := hasOpt(opts, "nullempty") && (fv.IsZero() || (fv.Kind() == reflect.Slice || fv.Kind() == reflect.Map) && fv.Len() == 0)
-		if seen[name] {
-			return fmt.Errorf("report: JSON key %q twice in %s", name, t)
-		}
-		seen[name] = true
-		if !*first {
+		if !first {
 			buf.WriteByte(',')
 		}
-		*first = false
-		kb, _ := json.Marshal(name)
-		buf.Write(kb)
-		buf.WriteByte(':')
-		if null {
+		first = false
+		buf.WriteString(f.key)
+		if f.nullEmpty && empty {
 			buf.WriteString("null")
 			continue
 		}
 		if err := encodeValue(buf, fv); err != nil {
-			return fmt.Errorf("%s: %w", name, err)
+			return fmt.Errorf("%s: %w", f.key[:len(f.key)-1], err)
 		}
 	}
+	buf.WriteByte('}')
 	return nil
 }
 
@@ -176,4 +232,43 @@ func hasOpt(opts, opt string) bool {
 		}
 	}
 	return false
+}
+
+// appendFloat appends f as encoding/json writes a finite float64: the
+// shortest decimal that reads back the same, in exponent form below 1e-6
+// and from 1e21 on, with a one-digit negative exponent written e-7, not
+// e-07.
+func appendFloat(b []byte, f float64) []byte {
+	format := byte('f')
+	if a := math.Abs(f); a != 0 && (a < 1e-6 || a >= 1e21) {
+		format = 'e'
+	}
+	b = strconv.AppendFloat(b, f, format, -1, 64)
+	if n := len(b); format == 'e' && n >= 4 && b[n-4] == 'e' && b[n-3] == '-' && b[n-2] == '0' {
+		b[n-2] = b[n-1]
+		b = b[:n-1]
+	}
+	return b
+}
+
+// plainString says whether encoding/json writes s between quotes as it
+// is: printable ASCII without a quote, a backslash or the characters it
+// escapes for HTML (<, >, &).
+func plainString(s string) bool {
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c < 0x20 || c > 0x7e, c == '"', c == '\\', c == '<', c == '>', c == '&':
+			return false
+		}
+	}
+	return true
+}
+
+// keyText returns "name": as JSON writes an object's key.
+func keyText(name string) string {
+	if plainString(name) {
+		return `"` + name + `":`
+	}
+	kb, _ := json.Marshal(name)
+	return string(kb) + ":"
 }
