@@ -59,7 +59,9 @@ func (f *fixture) record(t testing.TB, h hitSpec) int64 {
 		NoiseSD: synth.NoiseForSNR(modes, 46), Seed: h.seed, PulseWidth: 0.0012, PulsePeak: 200}
 	switch h.spoil {
 	case "double":
-		hit.DoubleHitDelay, hit.DoubleHitScale = 0.021, 0.45
+		// a bounce 35 ms later: long enough a decay before it (70 samples)
+		// for the modes of the rejected hit to be estimated and labelled
+		hit.DoubleHitDelay, hit.DoubleHitScale = 0.035, 0.45
 	case "clipped":
 		hit.ClipLevel = 0.8
 	}
