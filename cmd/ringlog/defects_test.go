@@ -266,6 +266,11 @@ func TestStatusFailed(t *testing.T) {
 	if code != 0 || !strings.Contains(stdout, bad1+": ") || !strings.Contains(stdout, bad2+": ") || strings.Contains(stdout, good) {
 		t.Errorf("status --failed: exit %d\n%s%s", code, stdout, stderr)
 	}
+	for _, p := range []string{bad1, bad2} {
+		if n := strings.Count(stdout, p); n != 1 {
+			t.Errorf("status --failed names %s %d times, want once:\n%s", p, n, stdout)
+		}
+	}
 	if len(stdout) > 2*maxErrorText+2000 {
 		t.Errorf("status --failed printed %d bytes: the 1 MB cell was not clipped", len(stdout))
 	}

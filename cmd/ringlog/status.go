@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 	"time"
 
 	"github.com/ringlog/ringlog/db"
@@ -78,7 +79,7 @@ func runStatus(ctx context.Context, e *env, args []string) error {
 			fmt.Fprintf(e.stdout, "no failed files in %s\n", path)
 		}
 		for _, f := range failed {
-			fmt.Fprintf(e.stdout, "%s: %s (%s, %d attempt(s))\n", f.Path, read.Clip(f.Error, maxErrorText), f.Updated.Local().Format(time.DateTime), f.Attempts)
+			fmt.Fprintf(e.stdout, "%s: %s (%s, %d attempt(s))\n", f.Path, read.Clip(withoutPath(f.Path, f.Error), maxErrorText), f.Updated.Local().Format(time.DateTime), f.Attempts)
 		}
 		return nil
 	}
@@ -196,7 +197,7 @@ func printStatus(w io.Writer, st db.Status) {
 		fmt.Fprintf(w, "last hit  %s  %s (recorded %s)\n", lh.Path, lh.Verdict, lh.IngestedAt.Local().Format(time.DateTime))
 	}
 	if le := st.LastError; le != nil {
-		fmt.Fprintf(w, "last error %s: %s (%s, %d attempt(s))\n", le.Path, read.Clip(le.Message, maxErrorText), le.Time.Local().Format(time.DateTime), le.Attempts)
+		fmt.Fprintf(w, "last error %s: %s (%s, %d attempt(s))\n", le.Path, read.Clip(withoutPath(le.Path, le.Message), maxErrorText), le.Time.Local().Format(time.DateTime), le.Attempts)
 	}
 }
 
@@ -216,4 +217,10 @@ func dbFromFlags(dbPath, cfgPath string) (string, error) {
 		return cfg.Database, nil
 	}
 	return "", usagef("--db PATH or --config FILE is required")
+}
+
+// withoutPath drops the "PATH: " that a reader's error starts with when
+// the line already names the file (the stored text keeps it).
+func withoutPath(path, msg string) string {
+	return strings.TrimPrefix(msg, path+": ")
 }
