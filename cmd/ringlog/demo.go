@@ -15,6 +15,8 @@ import (
 	"sync"
 	"time"
 
+	rpt "github.com/ringlog/ringlog/report"
+
 	"gonum.org/v1/gonum/stat"
 
 	"github.com/ringlog/ringlog/db"
@@ -346,25 +348,33 @@ func demoSummary(ctx context.Context, e *env, store *db.DB, root, dbPath, cfgPat
 	}
 	fmt.Fprintf(e.stdout, "\n== summary ==\n")
 	printStatus(e.stdout, st)
-	// Per revision and mode band: mean damping of accepted modes.
+	// Per revision and mode: mean damping of the modes that count, by the
+	// rule every history report uses (report.Identify).
 	type key struct {
 		rev  string
 		mode string
 	}
 	vals := map[key][]float64{}
+	byProto := map[string][]db.Hit{}
 	for _, h := range hits {
-		if h.Result == nil || h.Result.Verdict == pipeline.Rejected {
-			continue
+		byProto[h.Meta.Prototype] = append(byProto[h.Meta.Prototype], h)
+	}
+	leftHits, leftModes := 0, 0
+	for _, hs := range byProto {
+		id := rpt.Identify(hs, rpt.IdentifyOptions{})
+		for _, o := range id.Obs {
+			if o.Label != "" && o.Source == rpt.SourceStored {
+				vals[key{o.Revision, o.Label}] = append(vals[key{o.Revision, o.Label}], o.DampingRatio)
+			}
 		}
-		for _, md := range h.Result.Modes {
-			if md.Dropped {
-				continue
+		for _, ex := range id.Excluded {
+			for _, x := range ex {
+				if x.What == "hit" {
+					leftHits += x.Count
+				} else {
+					leftModes += x.Count
+				}
 			}
-			label := md.Label
-			if label == "" {
-				continue
-			}
-			vals[key{h.Meta.Revision, label}] = append(vals[key{h.Meta.Revision, label}], md.DampingRatio)
 		}
 	}
 	var keys []key
@@ -377,7 +387,7 @@ func demoSummary(ctx context.Context, e *env, store *db.DB, root, dbPath, cfgPat
 		}
 		return keys[i].rev < keys[j].rev
 	})
-	fmt.Fprintf(e.stdout, "\ndamping per revision and mode (accepted and flagged hits; the full statistics come with 'ringlog stats'):\n")
+	fmt.Fprintf(e.stdout, "\ndamping per revision and mode (the modes that count, as 'ringlog stats' counts them: %d hit(s) and %d mode(s) left out; the full statistics and why come with 'ringlog stats'):\n", leftHits, leftModes)
 	fmt.Fprintf(e.stdout, "  %-10s %-8s %4s %10s %10s\n", "mode", "revision", "n", "mean [%]", "sd [%]")
 	for _, k := range keys {
 		v := vals[k]

@@ -5,12 +5,14 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"encoding/xml"
 	"errors"
 	"io"
 	"os"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -38,6 +40,30 @@ func TestReportCommands(t *testing.T) {
 	checkPage(t, demoPage, "<h1>", "gantry-arm", "engineer of record")
 
 	dbPath := filepath.Join(dir, "history.db")
+	// The demo's summary counts what stats counts (one rule everywhere).
+	for _, rev := range []string{"R1", "R2"} {
+		mm := regexp.MustCompile(`(?m)^  bending-1\s+` + rev + `\s+(\d+) `).FindStringSubmatch(out)
+		if mm == nil {
+			continue // the short demo may not reach this revision
+		}
+		js, _, code := cli(t, "stats", "--db", dbPath, "--prototype", "gantry-arm", "--revision", rev, "--json")
+		var st struct {
+			Modes []struct {
+				Label        string `json:"label"`
+				DampingRatio struct {
+					N int `json:"n"`
+				} `json:"damping_ratio"`
+			} `json:"modes"`
+		}
+		if code != exitOK || json.Unmarshal([]byte(strings.SplitN(js, "\n", 2)[0]), &st) != nil {
+			t.Fatalf("stats --json: exit %d: %s", code, js)
+		}
+		for _, md := range st.Modes {
+			if md.Label == "bending-1" && strconv.Itoa(md.DampingRatio.N) != mm[1] {
+				t.Errorf("demo summary counts %s hits of bending-1 in %s, stats %d", mm[1], rev, md.DampingRatio.N)
+			}
+		}
+	}
 	daily := filepath.Join(dir, "daily.html")
 	out, errOut, code = cli(t, "report", "daily", "--db", dbPath, "--day", day, "--out", daily)
 	if code != exitOK || !strings.Contains(out, "daily summary of "+day+": "+m[1]+" hit") || !strings.Contains(out, daily) {
