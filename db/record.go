@@ -333,35 +333,30 @@ RETURNING id`,
 	if err != nil {
 		return 0, fmt.Errorf("inserting result: %w", err)
 	}
-	modeStmt, err := tx.PrepareContext(ctx, `
+	// The modes one statement each (their ids are needed), then every
+	// estimate of the result in one statement: on a PostgreSQL server
+	// each statement is a round trip, and a four-mode result has sixteen
+	// estimates (forwarding a spool's backlog is bound by round trips).
+	modeIDs := make([]int64, len(res.Modes))
+	nEst := 0
+	for i, m := range res.Modes {
+		err := tx.QueryRowContext(ctx, `
 INSERT INTO modes (result_id, idx, label, frequency_hz, frequency_ci_low, frequency_ci_high,
                    damping_ratio, damping_ratio_ci_low, damping_ratio_ci_high, damping_ratio_sd,
                    amplitude, energy_share, cycles, snr_db, spread, dropped)
 VALUES (?, ?, NULLIF(?, ''), ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-RETURNING id`)
-	if err != nil {
-		return 0, err
-	}
-	defer modeStmt.Close()
-	estStmt, err := tx.PrepareContext(ctx, `
-INSERT INTO estimates (mode_id, idx, method, frequency_hz, damping_ratio, note) VALUES (?, ?, ?, ?, ?, ?)`)
-	if err != nil {
-		return 0, err
-	}
-	defer estStmt.Close()
-	for i, m := range res.Modes {
-		var modeID int64
-		err := modeStmt.QueryRowContext(ctx, resultID, i, m.Label,
+RETURNING id`, resultID, i, m.Label,
 			sqlReal(m.FrequencyHz), sqlReal(m.FrequencyCI95[0]), sqlReal(m.FrequencyCI95[1]),
 			sqlReal(m.DampingRatio), sqlReal(m.DampingRatioCI[0]), sqlReal(m.DampingRatioCI[1]), sqlReal(m.DampingRatioSD),
-			sqlReal(m.Amplitude), sqlReal(m.EnergyShare), sqlReal(m.Cycles), sqlReal(m.DecaySNRdB), sqlReal(m.Spread), m.Dropped).Scan(&modeID)
+			sqlReal(m.Amplitude), sqlReal(m.EnergyShare), sqlReal(m.Cycles), sqlReal(m.DecaySNRdB), sqlReal(m.Spread), m.Dropped).Scan(&modeIDs[i])
 		if err != nil {
 			return 0, fmt.Errorf("inserting mode %d: %w", i, err)
 		}
-		for j, e := range m.Estimates {
-			if _, err := estStmt.ExecContext(ctx, modeID, j, e.Method, sqlReal(e.FrequencyHz), sqlReal(e.DampingRatio), e.Note); err != nil {
-				return 0, fmt.Errorf("inserting estimate %d of mode %d: %w", j, i, err)
-			}
+		nEst += len(m.Estimates)
+	}
+	for lo := 0; lo < nEst; lo += estimatesPerStatement {
+		if err := insertEstimates(ctx, tx, res.Modes, modeIDs, lo, min(lo+estimatesPerStatement, nEst)); err != nil {
+			return 0, err
 		}
 	}
 	for i, rs := range res.Reasons {
@@ -376,6 +371,36 @@ INSERT INTO estimates (mode_id, idx, method, frequency_hz, damping_ratio, note) 
 		}
 	}
 	return resultID, nil
+}
+
+// estimatesPerStatement bounds the rows of one INSERT of estimates (six
+// parameters each: SQLite allows 32,766 parameters a statement).
+const estimatesPerStatement = 1000
+
+// insertEstimates inserts the estimates lo to hi-1 of modes, counted
+// through the modes in order, in one statement; modeIDs are the modes'
+// ids.
+func insertEstimates(ctx context.Context, tx *sql.Tx, modes []pipeline.Mode, modeIDs []int64, lo, hi int) error {
+	var b strings.Builder
+	b.WriteString("INSERT INTO estimates (mode_id, idx, method, frequency_hz, damping_ratio, note) VALUES ")
+	args := make([]any, 0, 6*(hi-lo))
+	k := 0
+	for i, m := range modes {
+		for j, e := range m.Estimates {
+			if k >= lo && k < hi {
+				if len(args) > 0 {
+					b.WriteString(", ")
+				}
+				b.WriteString("(?, ?, ?, ?, ?, ?)")
+				args = append(args, modeIDs[i], j, e.Method, sqlReal(e.FrequencyHz), sqlReal(e.DampingRatio), e.Note)
+			}
+			k++
+		}
+	}
+	if _, err := tx.ExecContext(ctx, b.String(), args...); err != nil {
+		return fmt.Errorf("inserting estimates %d to %d: %w", lo, hi-1, err)
+	}
+	return nil
 }
 
 // checkResult refuses a result the schema cannot hold faithfully.
