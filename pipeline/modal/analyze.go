@@ -461,25 +461,7 @@ func (a *analysis) run() {
 		}
 	}
 	bands := planBands(peaks, a.fs/float64(ns), 2*a.opt.MaxModes+4)
-	var cands []candidate
-	for _, b := range bands {
-		bs := makeBandSignal(a.x0, a.fs, b, pencilLen)
-		if len(bs.y) < pencilMinLen {
-			continue
-		}
-		comps, _, err := Subspace(bs.y, 1/bs.dt, a.subspaceNoise(b)*bs.noise)
-		if err != nil {
-			continue
-		}
-		for _, c := range comps {
-			t := bs.toTrue(c)
-			fd := t.Omega / (2 * math.Pi)
-			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz {
-				continue
-			}
-			cands = append(cands, candidate{c: t, band: b})
-		}
-	}
+	cands := a.pencilCandidates(a.x0, bands, nil)
 	if len(cands) == 0 {
 		return
 	}
@@ -761,9 +743,19 @@ func (a *analysis) residualCandidates(fit *Fit, y []float64) []candidate {
 	if len(peaks) == 0 {
 		return nil
 	}
+	out := a.pencilCandidates(r, planBands(peaks, res, room), func(t Component) bool {
+		return !near(t.Omega/(2*math.Pi)) && t.Sigma > 0 && !harmonic(t) && a.residualModeUsable(t)
+	})
+	return out[:min(len(out), room)]
+}
+
+// pencilCandidates runs the matrix pencil on x in each band and returns
+// the components it finds inside their band and the searched range, and
+// that keep accepts (nil: all), in band order.
+func (a *analysis) pencilCandidates(x []float64, bands []band, keep func(Component) bool) []candidate {
 	var out []candidate
-	for _, b := range planBands(peaks, res, room) {
-		bs := makeBandSignal(r, a.fs, b, pencilLen)
+	for _, b := range bands {
+		bs := makeBandSignal(x, a.fs, b, pencilLen)
 		if len(bs.y) < pencilMinLen {
 			continue
 		}
@@ -774,15 +766,10 @@ func (a *analysis) residualCandidates(fit *Fit, y []float64) []candidate {
 		for _, c := range comps {
 			t := bs.toTrue(c)
 			fd := t.Omega / (2 * math.Pi)
-			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz || near(fd) || !(t.Sigma > 0) || harmonic(t) {
+			if fd < b.lo || fd > b.hi || fd < a.opt.FMinHz || fd > a.opt.FMaxHz || (keep != nil && !keep(t)) {
 				continue
 			}
-			if !a.residualModeUsable(t) {
-				continue
-			}
-			if len(out) < room {
-				out = append(out, candidate{c: t, band: b})
-			}
+			out = append(out, candidate{c: t, band: b})
 		}
 	}
 	return out
