@@ -29,17 +29,8 @@ func (db *DB) FailedFiles(ctx context.Context, limit int) ([]FailedFile, error) 
 		if err != nil {
 			return err
 		}
-		defer rows.Close()
-		for rows.Next() {
-			var f FailedFile
-			var t int64
-			if err := rows.Scan(&f.Path, &f.Error, &f.Attempts, &t); err != nil {
-				return err
-			}
-			f.Updated = fromNS(t)
-			out = append(out, f)
-		}
-		return rows.Err()
+		out, err = scanFailed(rows)
+		return err
 	})
 	return out, err
 }
@@ -55,17 +46,25 @@ WHERE state = ? AND updated >= ? AND updated < ? ORDER BY updated, id`, string(S
 		if err != nil {
 			return err
 		}
-		defer rows.Close()
-		for rows.Next() {
-			var f FailedFile
-			var t int64
-			if err := rows.Scan(&f.Path, &f.Error, &f.Attempts, &t); err != nil {
-				return err
-			}
-			f.Updated = fromNS(t)
-			out = append(out, f)
-		}
-		return rows.Err()
+		out, err = scanFailed(rows)
+		return err
 	})
 	return out, err
+}
+
+// scanFailed reads the rows of a failed-files query (path, last_error,
+// attempts, updated) and closes them.
+func scanFailed(rows *sql.Rows) ([]FailedFile, error) {
+	defer rows.Close()
+	var out []FailedFile
+	for rows.Next() {
+		var f FailedFile
+		var t int64
+		if err := rows.Scan(&f.Path, &f.Error, &f.Attempts, &t); err != nil {
+			return nil, err
+		}
+		f.Updated = fromNS(t)
+		out = append(out, f)
+	}
+	return out, rows.Err()
 }
