@@ -325,7 +325,7 @@ const compareBody = `<header class="mast">
 </dl>
 <p class="note">{{.FreqSentence}}</p>
 </div>
-{{if .Plot}}<figure>{{.Plot}}<figcaption>Every hit (dots), quartiles and median (box), geometric mean with its 95 % interval (square and bar).</figcaption></figure>{{else}}{{with .PlotError}}<p class="warn">{{.}}</p>{{end}}{{end}}
+{{if .Plot}}<figure>{{.Plot}}<figcaption>{{if .DotsNote}}Hits as dots ({{.DotsNote}}; the box and the mean use every hit){{else}}Every hit (dots){{end}}, quartiles and median (box), geometric mean with its 95 % interval (square and bar).</figcaption></figure>{{else}}{{with .PlotError}}<p class="warn">{{.}}</p>{{end}}{{end}}
 </div>
 </section>{{end}}
 
