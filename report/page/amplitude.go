@@ -28,7 +28,14 @@ type levelView struct {
 	Plot      template.HTML
 	PlotError string
 	LeftOut   string // hits left out and why
+	Thinned   string // how the dots were thinned; "" when every hit is drawn
 }
+
+// MaxLevelDots caps the dots of one revision in a plot of damping against
+// the excitation level: beyond it every k-th hit is drawn, so that a long
+// campaign keeps the page small (at 100,000 hits, 370,000 dots made most
+// of a 10 MB page). The fits always use every hit.
+const MaxLevelDots = 1500
 
 // levelRow is one revision of a mode.
 type levelRow struct {
@@ -42,7 +49,7 @@ type levelRow struct {
 // levelsBlock is the template of the section; it is given a []levelView.
 const levelsBlock = `{{define "levels"}}{{if .}}<h3>Damping against the excitation level</h3>
 <p class="lede">Each hit's damping ratio against how hard it was struck (peak force of the hammer pulse; the mode's initial response amplitude where the hits have no force channel), both on log scales, with the least-squares power law per revision. Does the test amplitude matter before a damping ratio goes into a model? Intervals 95 %.</p>
-{{range .}}<div class="mode">
+{{range $lv := .}}<div class="mode">
 <h3>{{.Name}}: damping against {{.Level}}</h3>
 <table>
 <thead><tr><th>revision</th><th class="n">hits used</th><th class="n">level range</th><th class="n">ζ change per doubling<br><span class="ci">95 % interval</span></th><th>what it shows</th></tr></thead>
@@ -50,7 +57,7 @@ const levelsBlock = `{{define "levels"}}{{if .}}<h3>Damping against the excitati
 </table>
 {{with .LeftOut}}<p class="note">Left out: {{.}}</p>{{end}}
 {{with .PlotError}}<p class="warn">The plot could not be drawn: {{.}}</p>{{end}}
-{{with .Plot}}<div class="figs"><figure>{{.}}<figcaption>Damping ratio against the excitation level, log scales; lines: fitted power law per revision.</figcaption></figure></div>{{end}}
+{{with .Plot}}<div class="figs"><figure>{{.}}<figcaption>Damping ratio against the excitation level, log scales; lines: fitted power law per revision.{{with $lv.Thinned}} Dots thinned to keep the page small ({{.}}); the fits use every hit.{{end}}</figcaption></figure></div>{{end}}
 </div>{{end}}{{end}}{{end}}`
 
 // levelViews builds the section for one prototype from its identified
@@ -80,7 +87,7 @@ func levelViews(id *report.Identified, hits []db.Hit, revs []string, revClass ma
 				lv.Level = "response amplitude"
 			}
 		}
-		var left []string
+		var left, thinned []string
 		p := newPlot(lv.Level, "damping ratio [%]")
 		p.X.Scale, p.Y.Scale = plot.LogScale{}, plot.LogScale{}
 		p.X.Tick.Marker, p.Y.Tick.Marker = plot.LogTicks{Prec: -1}, plot.LogTicks{Prec: -1}
@@ -91,11 +98,18 @@ func levelViews(id *report.Identified, hits []db.Hit, revs []string, revClass ma
 				Range: "–", PerDoubling: "–"}
 			if ls.N > 0 {
 				lo, hi := math.Inf(1), math.Inf(-1)
-				var xy plotter.XYs
-				for _, pt := range ls.Points {
+				step := 1
+				if ls.N > MaxLevelDots {
+					step = (ls.N + MaxLevelDots - 1) / MaxLevelDots
+					thinned = append(thinned, fmt.Sprintf("every %d%s of %d hits of %s drawn", step, ordinalSuffix(step), ls.N, orNone(pr.rev)))
+				}
+				xy := make(plotter.XYs, 0, (ls.N+step-1)/step)
+				for i, pt := range ls.Points {
 					lo, hi = math.Min(lo, pt.Level), math.Max(hi, pt.Level)
-					xy = append(xy, plotter.XY{X: pt.Level, Y: 100 * pt.DampingRatio})
 					ymin, ymax = math.Min(ymin, 100*pt.DampingRatio), math.Max(ymax, 100*pt.DampingRatio)
+					if i%step == 0 {
+						xy = append(xy, plotter.XY{X: pt.Level, Y: 100 * pt.DampingRatio})
+					}
 				}
 				xmin, xmax = math.Min(xmin, lo), math.Max(xmax, hi)
 				row.Range = num(lo, 3) + " – " + num(hi, 3)
@@ -125,6 +139,7 @@ func levelViews(id *report.Identified, hits []db.Hit, revs []string, revClass ma
 		if len(left) > 0 {
 			lv.LeftOut = strings.Join(left, ", ")
 		}
+		lv.Thinned = strings.Join(thinned, "; ")
 		if !math.IsInf(xmin, 0) && xmin > 0 && ymin > 0 {
 			p.X.Min, p.X.Max = xmin/1.15, xmax*1.15
 			p.Y.Min, p.Y.Max = ymin/1.15, ymax*1.15
