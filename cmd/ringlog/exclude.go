@@ -34,11 +34,7 @@ func runExclude(ctx context.Context, e *env, args []string) error {
 	case !*undo && strings.TrimSpace(*why) == "":
 		return usagef("--why TEXT is required: say why the hits are left out")
 	}
-	path, err := d.database()
-	if err != nil {
-		return err
-	}
-	store, err := openExistingWritable(ctx, path)
+	store, err := d.openWrite(ctx)
 	if err != nil {
 		return err
 	}

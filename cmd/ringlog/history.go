@@ -121,11 +121,7 @@ func runHistory(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	f.WithSuperseded = *superseded
-	path, err := q.database()
-	if err != nil {
-		return err
-	}
-	store, err := openExisting(ctx, path)
+	store, err := q.openRead(ctx)
 	if err != nil {
 		return err
 	}

@@ -65,6 +65,26 @@ func (d *dbFlags) database() (string, error) {
 	return cfg.Database, nil
 }
 
+// openRead opens the database of --db or the configuration read-only; it
+// must exist (see openExisting).
+func (d *dbFlags) openRead(ctx context.Context) (*db.DB, error) {
+	path, err := d.database()
+	if err != nil {
+		return nil, err
+	}
+	return openExisting(ctx, path)
+}
+
+// openWrite opens the database of --db or the configuration to change it;
+// it must exist (see openExistingWritable).
+func (d *dbFlags) openWrite(ctx context.Context) (*db.DB, error) {
+	path, err := d.database()
+	if err != nil {
+		return nil, err
+	}
+	return openExistingWritable(ctx, path)
+}
+
 // queryFlags is the one filter of the history commands (history, stats,
 // compare, trend, rayleigh, export, report daily, report compare and,
 // without the counting flags, reanalyze), declared here once, with the
@@ -173,15 +193,11 @@ func (q *queryFlags) open(ctx context.Context) (*reportSource, error) {
 	if err != nil {
 		return nil, err
 	}
-	path, err := q.database()
-	if err != nil {
-		return nil, err
-	}
 	iopt, err := q.identifyOptions(q.prototype)
 	if err != nil {
 		return nil, err
 	}
-	store, err := openExisting(ctx, path)
+	store, err := q.openRead(ctx)
 	if err != nil {
 		return nil, err
 	}

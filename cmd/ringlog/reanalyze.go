@@ -40,11 +40,7 @@ func runReanalyze(ctx context.Context, e *env, args []string) error {
 	if cfg == nil {
 		cfg = defaultConfig()
 	}
-	path, err := q.database()
-	if err != nil {
-		return err
-	}
-	store, err := openExistingWritable(ctx, path)
+	store, err := q.openWrite(ctx)
 	if err != nil {
 		return err
 	}
