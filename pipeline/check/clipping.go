@@ -71,9 +71,16 @@ func clipMessage(ch *pipeline.Channel, th Thresholds) string {
 
 	hi, lo := math.Inf(-1), math.Inf(1)
 	for _, v := range x {
+		// plain comparisons: v is finite, so math.Max's NaN and signed
+		// zero handling (several times the cost on a long record) is not
+		// needed
 		if finite(v) {
-			hi = math.Max(hi, v)
-			lo = math.Min(lo, v)
+			if v > hi {
+				hi = v
+			}
+			if v < lo {
+				lo = v
+			}
 		}
 	}
 	if !(hi > lo) {

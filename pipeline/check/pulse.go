@@ -43,8 +43,12 @@ func findPulse(ch *pipeline.Channel, th Thresholds) (forcePulse, bool) {
 		if finite(v) {
 			g[i] = v - base
 		}
-		hi = math.Max(hi, g[i])
-		lo = math.Min(lo, g[i])
+		if g[i] > hi { // g is finite: plain comparisons suffice
+			hi = g[i]
+		}
+		if g[i] < lo {
+			lo = g[i]
+		}
 	}
 	if -lo > hi { // hammer wired with negative polarity
 		for i := range g {
