@@ -43,6 +43,17 @@ func decimateLow(src []float64, fs, hi float64, d int) (y []float64, fsx float64
 	return y, fsx
 }
 
+// Decimate low-passes x (sampled at fs) below hi hertz with a zero-phase
+// FIR and keeps every d-th sample, d chosen so that at least 16 samples
+// fall on a cycle at hi (and 64 remain); output m is at the time of
+// x[m d]. With d = 1 it returns x itself. The cross-checks and the quality
+// rules work on such reduced-rate band signals.
+func Decimate(x []float64, fs, hi float64) (y []float64, fsx float64, d int) {
+	d = decimFactor(fs, hi, 16, len(x))
+	y, fsx = decimateLow(x, fs, hi, d)
+	return y, fsx, d
+}
+
 // decimFactor returns the decimation factor that keeps at least perCycle
 // samples per cycle at hi hertz and 64 samples out of n (1: none).
 func decimFactor(fs, hi, perCycle float64, n int) int {
