@@ -88,7 +88,7 @@ func clipMessage(ch *pipeline.Channel, th Thresholds) string {
 	}
 	mag := math.Max(math.Abs(hi), math.Abs(lo))
 	minRun := max(th.ClipFlatRun, 2)
-	q := finestStep(x)
+	q := -1.0 // finestStep(x), found when a flat run first needs it
 	var (
 		runs, samples, longest int
 		first                  = -1
@@ -110,6 +110,9 @@ func clipMessage(ch *pipeline.Channel, th Thresholds) string {
 			}
 			n := j - i + 1
 			if n >= minRun {
+				if q < 0 {
+					q = finestStep(x)
+				}
 				if fall := sideFall(x, i, j, ext); fall > flatFallQuanta*q {
 					runs++
 					samples += n
